@@ -1,0 +1,1 @@
+"""glint's command line: one module per subcommand, registered in ``main``."""

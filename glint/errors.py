@@ -1,0 +1,81 @@
+"""Exceptions and warnings raised by glint.
+
+Every exception derives from :class:`GlintError` and also from the built-in
+exception a caller would expect (``ValueError`` for bad values, ``OSError``
+for files), so ``except ValueError`` keeps working. Messages name the bad
+value with ``!r`` and say what is allowed.
+"""
+
+from __future__ import annotations
+
+__all__ = [
+    "GlintError",
+    "InputError",
+    "GridError",
+    "SceneError",
+    "SensorError",
+    "OutputError",
+    "InputFileError",
+    "GlintWarning",
+    "ValidityWarning",
+]
+
+
+class GlintError(Exception):
+    """Root of every error raised by glint."""
+
+
+class InputError(GlintError, ValueError):
+    """A physical or numerical input is outside what a function accepts."""
+
+
+class GridError(GlintError, ValueError):
+    """A grid (CRS, transform, shape) cannot be built or does not match."""
+
+
+class SensorError(GlintError, ValueError):
+    """A sensor description cannot describe a real viewing geometry."""
+
+
+class SceneError(GlintError, ValueError):
+    """A scene description has one or more problems.
+
+    Parameters
+    ----------
+    problems : list of str
+        One line per problem, each starting with the key path
+        (``surface.wind_speed: ...``).
+    source : str, optional
+        The file the scene came from, named in the message.
+    """
+
+    def __init__(self, problems: list[str] | str, source: str | None = None):
+        if isinstance(problems, str):
+            problems = [problems]
+        self.problems = list(problems)
+        self.source = source
+        head = f"invalid scene{f' {source!s}' if source else ''}"
+        if len(self.problems) == 1:
+            msg = f"{head}: {self.problems[0]}"
+        else:
+            msg = f"{head} ({len(self.problems)} problems):\n" + "\n".join(
+                f"  - {p}" for p in self.problems
+            )
+        super().__init__(msg)
+
+
+class InputFileError(GlintError, OSError):
+    """An input file is missing, unreadable or does not match the grid."""
+
+
+class OutputError(GlintError, OSError):
+    """An output cannot be written (exists, directory not writable, disk)."""
+
+
+class GlintWarning(UserWarning):
+    """Root of every warning issued by glint."""
+
+
+class ValidityWarning(GlintWarning):
+    """An input lies outside the range where a published method was fitted
+    or validated; the result is an extrapolation."""

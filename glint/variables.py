@@ -1,0 +1,86 @@
+"""The one table of glint's per-pixel output variables.
+
+Names, units and CF metadata of every variable that :mod:`glint.compute`
+produces and :mod:`glint.io` writes. Writers and plots read this table; no
+other module spells out units or standard names.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+__all__ = ["Variable", "VARIABLES", "DEFAULT_VARIABLES", "CLASS_NODATA"]
+
+#: Value of the class raster where no class could be computed.
+CLASS_NODATA = 255
+
+
+@dataclass(frozen=True)
+class Variable:
+    """Metadata of one output variable."""
+
+    name: str
+    long_name: str
+    units: str
+    dtype: str = "float32"
+    standard_name: str | None = None
+    comment: str = ""
+    extra: dict = field(default_factory=dict)
+
+
+_VARS = [
+    Variable(
+        "sun_zenith", "sun zenith angle", "degree",
+        standard_name="solar_zenith_angle",
+        comment="Angle between the local vertical and the direction to the centre of "
+        "the sun's disc, refraction included unless switched off (NREL SPA).",
+    ),
+    Variable(
+        "sun_azimuth", "sun azimuth angle", "degree",
+        standard_name="solar_azimuth_angle",
+        comment="Direction from the ground point to the sun, clockwise from true north.",
+    ),
+    Variable(
+        "view_zenith", "view zenith angle", "degree",
+        standard_name="sensor_zenith_angle",
+        comment="Angle between the local vertical and the direction from the ground "
+        "point to the sensor.",
+    ),
+    Variable(
+        "view_azimuth", "view azimuth angle", "degree",
+        standard_name="sensor_azimuth_angle",
+        comment="Direction from the ground point to the sensor, measured clockwise "
+        "from true north (reference direction: true north).",
+    ),
+    Variable(
+        "glint_angle", "glint angle", "degree",
+        standard_name="sunglint_angle",
+        comment="Angle between the view direction and the direction of specular "
+        "reflection of the sun by a flat horizontal surface; 0 at the specular point.",
+    ),
+    Variable(
+        "glint_reflectance", "sun glint reflectance factor", "1",
+        comment="pi L / (E cos(sun_zenith)) of the sun's specular reflection by a "
+        "wind-roughened surface (Cox and Munk 1954, doi:10.1364/JOSA.44.000838).",
+    ),
+    Variable(
+        "glint_radiance", "normalised sun glint radiance", "sr-1",
+        comment="Glint radiance divided by the solar irradiance on a plane normal to "
+        "the sun's rays, L/E (Wang and Bailey 2001, doi:10.1364/AO.40.004790).",
+    ),
+    Variable(
+        "glint_fraction", "glint fraction", "1",
+        comment="Expected share of the pixel's visible water area whose facets reflect "
+        "part of the sun's disc towards the sensor.",
+    ),
+    Variable(
+        "glint_class", "glint class", "1", dtype="uint8",
+        comment="Class of the normalised glint radiance; thresholds in the "
+        "attributes glint_class_thresholds.",
+    ),
+]
+
+VARIABLES: dict[str, Variable] = {v.name: v for v in _VARS}
+
+#: Variables written when a scene or command names none.
+DEFAULT_VARIABLES: tuple[str, ...] = tuple(VARIABLES)
