@@ -1,0 +1,436 @@
+"""Tests of glint.io: files read back by rasterio/GDAL, netCDF4, xarray,
+rio-cogeo and the IOOS compliance-checker."""
+
+from __future__ import annotations
+
+import json
+import os
+import pickle
+
+import netCDF4
+import numpy as np
+import pytest
+import rasterio
+import xarray as xr
+from affine import Affine
+from pyproj import CRS, Transformer
+
+from glint.errors import InputError, InputFileError, OutputError
+from glint.grid import Grid
+from glint.io import (
+    GeoTiffWriter,
+    NetCDFWriter,
+    atomic_path,
+    check_free_space,
+    check_matches_grid,
+    open_band,
+    read_grid,
+    write_dataset_geotiff,
+    write_dataset_netcdf,
+)
+from glint.variables import CLASS_NODATA, VARIABLES
+
+FLOATS = ["sun_zenith", "view_azimuth", "glint_reflectance"]
+CLASS_FLAGS = ([0, 1, 2, 3], ["no glint", "weak", "moderate", "strong"], [0.001, 0.01, 0.1])
+
+
+@pytest.fixture
+def grid() -> Grid:
+    # Invented 20 m tile, UTM 31N; larger than one 512 tile so overviews exist.
+    return Grid(32631, Affine(20.0, 0.0, 620000.0, 0.0, -20.0, 5780000.0), (600, 700))
+
+
+@pytest.fixture
+def small_grid() -> Grid:
+    return Grid(32733, Affine(30.0, 0.0, 500000.0, 0.0, -30.0, 6700000.0), (40, 50))
+
+
+@pytest.fixture
+def data(grid, rng) -> dict[str, np.ndarray]:
+    out = {n: rng.uniform(0, 90, grid.shape).astype("float32") for n in FLOATS}
+    out["sun_zenith"][3, 4] = np.nan
+    out["glint_class"] = rng.integers(0, 4, grid.shape).astype("uint8")
+    out["glint_class"][5, 6] = CLASS_NODATA
+    return out
+
+
+def _write_tif(path, grid, names, data, block=256, **kw):
+    with GeoTiffWriter(path, grid, names, **kw) as w:
+        for b in grid.blocks(block):
+            w.write(b.rows, {n: data[n][b.rows] for n in names})
+
+
+def _write_nc(path, grid, names, data, **kw):
+    with NetCDFWriter(path, grid, names, **kw) as w:
+        for b in grid.blocks(512):
+            w.write(b.rows, [data[n][b.rows] for n in names])
+
+
+# --------------------------------------------------------------- GeoTIFF
+def test_geotiff_round_trip(tmp_path, grid, data):
+    path = tmp_path / "maps.tif"
+    _write_tif(path, grid, FLOATS, data, tags={"scene_time": "2026-06-01T10:00:00Z"})
+    assert os.listdir(tmp_path) == ["maps.tif"]
+    # rasterio (GDAL) is the outside reader.
+    with rasterio.open(path) as src:
+        for i, n in enumerate(FLOATS, start=1):
+            np.testing.assert_array_equal(src.read(i), data[n])
+        assert CRS.from_wkt(src.crs.to_wkt()).equals(grid.crs, ignore_axis_order=True)
+        assert src.crs.to_epsg() == 32631
+        assert src.transform == grid.transform
+        assert src.descriptions == tuple(FLOATS)
+        assert src.units == tuple(VARIABLES[n].units for n in FLOATS)
+        assert np.isnan(src.nodata) and src.dtypes[0] == "float32"
+        assert src.profile["tiled"] and src.block_shapes[0] == (512, 512)
+        assert src.compression.name.lower() == "zstd"
+        # overviews until smaller than one tile, as GDAL's COG driver does
+        assert src.overviews(1) == [2]
+        assert src.tags(2)["standard_name"] == "sensor_azimuth_angle"
+        assert "true north" in src.tags(2)["comment"]
+        assert src.tags()["scene_time"] == "2026-06-01T10:00:00Z"
+        assert src.tags(ns="IMAGE_STRUCTURE").get("PREDICTOR") == "3"
+        ov = src.read(1, out_shape=(300, 350))  # served from the overview
+        assert np.isfinite(ov).all()
+        # the overview is a 2x2 average ("average" resampling, GDAL docs)
+        np.testing.assert_allclose(ov[10, 10], data["sun_zenith"][20:22, 20:22].mean(), rtol=1e-5)
+
+
+def test_geotiff_class_file_uint8(tmp_path, grid, data):
+    path = tmp_path / "classes.tif"
+    _write_tif(path, grid, ["glint_class"], data)
+    with rasterio.open(path) as src:
+        assert src.dtypes[0] == "uint8" and src.nodata == 255
+        arr = src.read(1)
+        np.testing.assert_array_equal(arr, data["glint_class"])
+        assert src.tags(ns="IMAGE_STRUCTURE").get("PREDICTOR") == "2"
+        assert src.tags(ns="rio_overview").get("resampling") == "nearest"
+        ov = src.read(1, out_shape=(300, 350))
+        # nearest resampling keeps class codes (no averaged values)
+        assert set(np.unique(ov)) <= {0, 1, 2, 3, 255}
+
+
+def test_geotiff_cog_is_valid(tmp_path, grid, data):
+    from rio_cogeo.cogeo import cog_validate
+
+    path = tmp_path / "maps_cog.tif"
+    _write_tif(path, grid, FLOATS, data, cog=True)
+    assert os.listdir(tmp_path) == ["maps_cog.tif"]
+    # rio-cogeo's validator is the outside reference for the COG layout.
+    valid, errors, _warnings = cog_validate(str(path))
+    assert valid, errors
+    with rasterio.open(path) as src:
+        np.testing.assert_array_equal(src.read(1), data["sun_zenith"])
+        assert src.overviews(1) == [2]
+        assert src.descriptions == tuple(FLOATS)
+        assert src.transform == grid.transform
+
+
+def test_geotiff_lerc_error_bound(tmp_path, grid, data):
+    path = tmp_path / "lerc.tif"
+    _write_tif(path, grid, ["glint_reflectance"], data, compress="lerc_zstd",
+               max_z_error=1e-3, overviews=False)
+    with rasterio.open(path) as src:
+        arr = src.read(1)
+        assert src.overviews(1) == []
+    # LERC guarantees |error| <= MAX_Z_ERROR (GDAL GTiff driver docs), plus
+    # the float32 spacing near 90 (7.6e-6) from storing the decoded value.
+    assert np.nanmax(np.abs(arr - data["glint_reflectance"])) <= 1e-3 + 8e-6
+
+
+@pytest.mark.parametrize(
+    "variables, kwargs, fragment",
+    [
+        (["sun_zenith", "glint_class"], {}, "mix data types"),
+        (["no_such_variable"], {}, "'no_such_variable'"),
+        ([], {}, "at least one"),
+        (["sun_zenith"], {"compress": "jpeg2000"}, "'jpeg2000'"),
+        (["sun_zenith"], {"resampling": "magic"}, "'magic'"),
+        (["glint_class"], {"predictor": 3}, "3"),
+        (["sun_zenith"], {"blocksize": 500}, "500"),
+    ],
+)
+def test_geotiff_bad_options(tmp_path, small_grid, variables, kwargs, fragment):
+    with pytest.raises(InputError) as info:
+        GeoTiffWriter(tmp_path / "x.tif", small_grid, variables, **kwargs)
+    assert fragment in str(info.value)
+
+
+def test_write_checks_shapes_and_names(tmp_path, small_grid):
+    with pytest.raises(InputError, match=r"\(3, 49\)"):
+        with GeoTiffWriter(tmp_path / "x.tif", small_grid, ["sun_zenith"]) as w:
+            w.write(slice(0, 3), {"sun_zenith": np.zeros((3, 49), "f4")})
+    with pytest.raises(InputError, match="glint_angle"):
+        with NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_angle"]) as w:
+            w.write(slice(0, 3), {"sun_zenith": np.zeros((3, 50), "f4")})
+    with pytest.raises(InputError, match="outside"):
+        with NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_angle"]) as w:
+            w.write((30, 45), [np.zeros((15, 50), "f4")])
+    assert os.listdir(tmp_path) == []
+
+
+# ------------------------------------------------------------- atomic writes
+@pytest.mark.parametrize("kind", ["tif", "cog", "nc"])
+def test_exception_inside_with_leaves_nothing(tmp_path, small_grid, kind):
+    path = tmp_path / ("out.nc" if kind == "nc" else "out.tif")
+    cls = NetCDFWriter if kind == "nc" else GeoTiffWriter
+    kw = {"cog": True} if kind == "cog" else {}
+    with pytest.raises(RuntimeError, match="boom"):
+        with cls(path, small_grid, ["glint_fraction"], **kw) as w:
+            w.write(slice(0, 10), [np.ones((10, 50), "f4")])
+            assert len(os.listdir(tmp_path)) >= 1  # the temporary file exists
+            raise RuntimeError("boom")
+    assert os.listdir(tmp_path) == []
+
+
+def test_existing_output_needs_overwrite(tmp_path, small_grid):
+    path = tmp_path / "out.tif"
+    path.write_bytes(b"old")
+    with pytest.raises(OutputError) as info:
+        GeoTiffWriter(path, small_grid, ["glint_fraction"]).open()
+    assert "out.tif" in str(info.value) and "--overwrite" in str(info.value)
+    assert path.read_bytes() == b"old" and os.listdir(tmp_path) == ["out.tif"]
+    with pytest.raises(OutputError, match="overwrite"):
+        NetCDFWriter(path, small_grid, ["glint_fraction"]).open()
+    with GeoTiffWriter(path, small_grid, ["glint_fraction"], overwrite=True) as w:
+        w.write(slice(0, 40), [np.ones((40, 50), "f4")])
+    with rasterio.open(path) as src:
+        assert src.read(1).min() == 1.0
+    assert os.listdir(tmp_path) == ["out.tif"]
+
+
+def test_missing_or_unusable_directory(tmp_path, small_grid):
+    with pytest.raises(OutputError, match="does not exist") as info:
+        GeoTiffWriter(tmp_path / "nodir" / "out.tif", small_grid, ["glint_fraction"]).open()
+    assert "nodir" in str(info.value)
+    blocker = tmp_path / "file"
+    blocker.write_text("x")
+    with pytest.raises(OutputError, match="not a directory"):
+        with atomic_path(blocker / "out.nc", overwrite=False):
+            pass
+
+
+@pytest.mark.skipif(hasattr(os, "geteuid") and os.geteuid() == 0,
+                    reason="root ignores directory permissions")
+def test_unwritable_directory(tmp_path, small_grid):
+    ro = tmp_path / "ro"
+    ro.mkdir()
+    ro.chmod(0o500)
+    try:
+        with pytest.raises(OutputError, match="not writable"):
+            GeoTiffWriter(ro / "out.tif", small_grid, ["glint_fraction"]).open()
+    finally:
+        ro.chmod(0o700)
+
+
+def test_unwritable_directory_reported(tmp_path, small_grid, monkeypatch):
+    # Works as root too: the probe file cannot be created.
+    import glint.io
+
+    def refuse(*args, **kwargs):
+        raise PermissionError(13, "Permission denied")
+
+    monkeypatch.setattr(glint.io, "open", refuse, raising=False)
+    with pytest.raises(OutputError, match="not writable") as info:
+        NetCDFWriter(tmp_path / "out.nc", small_grid, ["glint_fraction"]).open()
+    assert str(tmp_path) in str(info.value)
+
+
+def test_atomic_path_and_free_space(tmp_path):
+    final = tmp_path / "a.txt"
+    with atomic_path(final, overwrite=False) as tmp:
+        assert tmp.parent == tmp_path and tmp.suffix == ".txt" and tmp.name.startswith(".a.")
+        tmp.write_text("ok")
+        assert not final.exists()
+    assert final.read_text() == "ok" and os.listdir(tmp_path) == ["a.txt"]
+    with pytest.raises(OutputError, match="MB needed"):
+        check_free_space(tmp_path, 10**18)
+
+
+# ------------------------------------------------------------------ NetCDF
+def test_netcdf_round_trip(tmp_path, grid, data):
+    path = tmp_path / "maps.nc"
+    names = FLOATS + ["glint_class"]
+    t = np.datetime64("2026-06-01T10:30:00")
+    _write_nc(path, grid, names, data, time=t, class_flags=CLASS_FLAGS,
+              attrs={"title": "Invented bay survey", "sun_zenith_deg": 41.5,
+                     "thresholds": [0.1, 0.2], "note": None, "flag": True,
+                     "contributors": ("a", "b")})
+    assert os.listdir(tmp_path) == ["maps.nc"]
+    with netCDF4.Dataset(path) as nc:  # netCDF4 as the low-level reader
+        assert nc.Conventions == "CF-1.11, ACDD-1.3"
+        assert nc.title == "Invented bay survey"
+        assert nc.sun_zenith_deg == 41.5 and list(nc.thresholds) == [0.1, 0.2]
+        assert "note" not in nc.ncattrs() and nc.flag == "true" and nc.contributors == "a, b"
+        assert nc.source.startswith("glint ") and nc.date_created.endswith("Z")
+        assert nc.time_coverage_start == "2026-06-01T10:30:00Z"
+        assert "_FillValue" not in nc["x"].ncattrs() and "_FillValue" not in nc["y"].ncattrs()
+        assert nc["crs"].grid_mapping_name == "transverse_mercator"
+        v = nc["view_azimuth"]
+        assert v.grid_mapping == "crs" and v.coordinates.split() == ["lat", "lon", "time"]
+        assert v.standard_name == "sensor_azimuth_angle" and "true north" in v.comment
+        assert v.units == "degree" and np.isnan(v._FillValue) and v.dtype == np.float32
+        c = nc["glint_class"]
+        assert c.dtype == np.uint8 and c._FillValue == 255
+        assert list(c.flag_values) == [0, 1, 2, 3]
+        assert c.flag_meanings == "no_glint weak moderate strong"
+        np.testing.assert_allclose(c.glint_class_thresholds, [0.001, 0.01, 0.1])
+        filters = v.filters()
+        assert filters["zlib"] and filters["complevel"] == 4
+        assert nc.geospatial_lat_min < nc.geospatial_lat_max
+    ds = xr.open_dataset(path)  # xarray decodes CF
+    try:
+        np.testing.assert_array_equal(ds["sun_zenith"].values, data["sun_zenith"])
+        cls = ds["glint_class"].values  # decoded: fill -> NaN
+        assert np.isnan(cls[5, 6]) and cls[0, 0] == data["glint_class"][0, 0]
+        assert ds["time"].values == np.datetime64("2026-06-01T10:30:00", "ns")
+        assert CRS.from_cf(ds["crs"].attrs) == grid.crs
+        # 2-D lat/lon equal a pyproj Transformer built independently
+        tr = Transformer.from_crs(32631, 4326, always_xy=True)
+        xx, yy = np.meshgrid(ds["x"].values, ds["y"].values)
+        lon, lat = tr.transform(xx, yy)
+        np.testing.assert_allclose(ds["lon"].values, lon, atol=1e-10)
+        np.testing.assert_allclose(ds["lat"].values, lat, atol=1e-10)
+        assert float(ds.attrs["geospatial_lat_max"]) == pytest.approx(lat.max())
+    finally:
+        ds.close()
+
+
+def test_gdal_reads_netcdf_georeferencing(tmp_path, grid, data):
+    path = tmp_path / "maps.nc"
+    _write_nc(path, grid, ["sun_zenith"], data)
+    # GDAL's netCDF driver (through rasterio) as the outside reader.
+    with rasterio.open(f"netcdf:{path}:sun_zenith") as src:
+        assert CRS.from_wkt(src.crs.to_wkt()).equals(grid.crs, ignore_axis_order=True)
+        assert src.transform.almost_equals(grid.transform, precision=1e-6)
+        np.testing.assert_array_equal(src.read(1), data["sun_zenith"])
+    g2 = read_grid(f"netcdf:{path}:sun_zenith")
+    assert g2.shape == grid.shape
+
+
+def test_netcdf_geographic_grid(tmp_path, rng):
+    g = Grid.from_bounds((4.0, 52.0, 4.2, 52.1), 0.01, 4326)
+    data = {"glint_fraction": rng.random(g.shape).astype("f4")}
+    path = tmp_path / "geo.nc"
+    _write_nc(path, g, ["glint_fraction"], data)
+    with netCDF4.Dataset(path) as nc:
+        assert set(nc.dimensions) == {"lat", "lon"}
+        assert nc["lon"].standard_name == "longitude" and nc["lat"].units == "degrees_north"
+        assert "coordinates" not in nc["glint_fraction"].ncattrs()
+    with rasterio.open(f"netcdf:{path}:glint_fraction") as src:
+        assert src.transform.almost_equals(g.transform, precision=1e-9)
+
+
+def _cf_check(path, tmp_path, criteria="normal"):
+    from compliance_checker.runner import CheckSuite, ComplianceChecker
+
+    CheckSuite.load_all_available_checkers()
+    report = tmp_path / "cf.json"
+    passed, errors = ComplianceChecker.run_checker(
+        str(path), ["cf:1.11"], verbose=0, criteria=criteria,
+        output_filename=str(report), output_format="json",
+    )
+    result = json.loads(report.read_text())["cf:1.11"]
+    msgs = {
+        level: [(i["name"], i["msgs"]) for i in result[level] if i["msgs"]]
+        for level in ("high_priorities", "medium_priorities", "low_priorities")
+    }
+    return passed, errors, result, msgs
+
+
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+@pytest.mark.parametrize("geographic", [False, True])
+def test_netcdf_passes_cf_checker(tmp_path, small_grid, rng, geographic):
+    g = Grid.from_bounds((4.0, 52.0, 4.5, 52.4), 0.01, 4326) if geographic else small_grid
+    names = list(VARIABLES)
+    data = {n: rng.random(g.shape).astype(VARIABLES[n].dtype) for n in names}
+    data["glint_class"] = rng.integers(0, 4, g.shape).astype("uint8")
+    path = tmp_path / "cf.nc"
+    _write_nc(path, g, names, data, time=np.datetime64("2026-06-01T10:30"),
+              class_flags=CLASS_FLAGS)
+    # IOOS compliance-checker, CF 1.11 suite (outside reference), strict criteria
+    passed, errors, result, msgs = _cf_check(path, tmp_path, criteria="strict")
+    assert not errors
+    assert passed, msgs
+    assert not msgs["high_priorities"] and not msgs["medium_priorities"], msgs
+    assert result["scored_points"] == result["possible_points"], msgs
+
+
+# ---------------------------------------------------------- xarray datasets
+def test_write_dataset_helpers_with_dask(tmp_path, grid, data):
+    pytest.importorskip("dask")
+    ds = xr.Dataset(
+        {n: (("y", "x"), data[n]) for n in FLOATS + ["glint_class"]},
+        coords={"time": np.datetime64("2026-06-01T10:30", "ns")},
+    ).chunk({"y": 200, "x": 350})
+    tif = write_dataset_geotiff(ds, tmp_path / "a.tif", grid, block_rows=512)
+    with rasterio.open(tif) as src:
+        assert src.descriptions == tuple(FLOATS)  # floats only by default
+        np.testing.assert_array_equal(src.read(3), data["glint_reflectance"])
+    nc = write_dataset_netcdf(ds, tmp_path / "a.nc", grid, class_flags=CLASS_FLAGS)
+    with xr.open_dataset(nc) as back:
+        assert set(FLOATS + ["glint_class"]) <= set(back.data_vars)
+        assert back["time"].values == np.datetime64("2026-06-01T10:30", "ns")
+        np.testing.assert_array_equal(back["view_azimuth"].values, data["view_azimuth"])
+    with pytest.raises(InputError, match="glint_angle"):
+        write_dataset_geotiff(ds, tmp_path / "b.tif", grid, variables=["glint_angle"])
+    assert sorted(os.listdir(tmp_path)) == ["a.nc", "a.tif"]
+
+
+# ------------------------------------------------------------------ readers
+def test_open_band_reads_windows_lazily(tmp_path, grid, data):
+    path = tmp_path / "wind.tif"
+    with rasterio.open(path, "w", driver="GTiff", width=700, height=600, count=1,
+                       dtype="int16", nodata=-9999, crs="EPSG:32631",
+                       transform=grid.transform) as dst:
+        arr = np.arange(600 * 700, dtype="int32").reshape(600, 700) % 1000
+        arr = arr.astype("int16")
+        arr[1, 2] = -9999
+        dst.write(arr, 1)
+    band = open_band(path)
+    assert band.shape == grid.shape and band.transform == grid.transform
+    out = pickle.loads(pickle.dumps(band))[0:3, 1:5]
+    assert out.dtype == np.float64 and out.shape == (3, 4)
+    assert np.isnan(out[1, 1])
+    np.testing.assert_array_equal(out[0], arr[0, 1:5])
+    check_matches_grid(band, grid, "wind_speed")  # same grid: no error
+    other = Grid(32631, Affine(20.0, 0.0, 620020.0, 0.0, -20.0, 5780000.0), (600, 700))
+    with pytest.raises(InputFileError) as info:
+        check_matches_grid(band, other, "wind_speed")
+    assert "wind.tif" in str(info.value) and "transform" in str(info.value)
+    with pytest.raises(InputFileError, match="CRS"):
+        check_matches_grid(band, Grid(32632, grid.transform, grid.shape), "wind_speed")
+    with pytest.raises(InputFileError, match=r"\(600, 700\)"):
+        check_matches_grid(band, Grid(32631, grid.transform, (10, 10)), "wind_speed")
+
+
+def test_open_band_errors(tmp_path, small_grid):
+    with pytest.raises(InputFileError, match="missing.tif"):
+        open_band(tmp_path / "missing.tif")
+    path = tmp_path / "one.tif"
+    with GeoTiffWriter(path, small_grid, ["glint_fraction"]) as w:
+        w.write(slice(0, 40), [np.zeros((40, 50), "f4")])
+    with pytest.raises(InputFileError, match="band 2"):
+        open_band(path, band=2)
+    bad = tmp_path / "bad.tif"
+    bad.write_text("not a raster")
+    with pytest.raises(InputFileError, match="bad.tif"):
+        open_band(bad)
+    assert open_band(path).read().shape == (40, 50)
+
+
+def test_netcdf_lonlat_options(tmp_path, small_grid, rng):
+    data = {"glint_fraction": rng.random(small_grid.shape).astype("f4")}
+    _write_nc(tmp_path / "f32.nc", small_grid, ["glint_fraction"], data, lonlat_dtype="float32")
+    _write_nc(tmp_path / "none.nc", small_grid, ["glint_fraction"], data, lonlat=False)
+    tr = Transformer.from_crs(32733, 4326, always_xy=True)  # pyproj reference
+    with netCDF4.Dataset(tmp_path / "f32.nc") as nc:
+        assert nc["lat"].dtype == np.float32
+        xx, yy = np.meshgrid(nc["x"][:], nc["y"][:])
+        lon, lat = tr.transform(xx, yy)
+        np.testing.assert_allclose(nc["lon"][:], lon, atol=2e-6)  # float32 spacing near 15 deg
+    with netCDF4.Dataset(tmp_path / "none.nc") as nc:
+        assert "lat" not in nc.variables
+        assert "coordinates" not in nc["glint_fraction"].ncattrs()
+        assert nc.geospatial_lat_min == pytest.approx(lat.min())
+    with pytest.raises(InputError, match="'float16'"):
+        NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_fraction"], lonlat_dtype="float16")
