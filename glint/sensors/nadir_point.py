@@ -1,0 +1,93 @@
+"""Sensor kind ``nadir-point``: a sensor hovering at one place.
+
+A balloon, a hovering drone or any sensor at a fixed longitude, latitude and
+altitude above the water; every ground point sees it along the straight line
+between them, on the ellipsoid (Earth curvature included). The sensor sees
+every point whose view zenith is below 90°; no field of view is applied
+(use ``frame-camera`` for that).
+"""
+
+from __future__ import annotations
+
+import numpy as np
+
+from glint.sensors.base import (
+    GroundPoints,
+    TableReader,
+    ViewAngles,
+    angles_to_position,
+    check_closed_interval,
+    check_positive,
+    ecef_from_lonlat,
+    register_sensor_kind,
+)
+
+__all__ = ["NadirPoint"]
+
+
+class NadirPoint:
+    """A sensor at a fixed position above the water.
+
+    Parameters
+    ----------
+    lon, lat : float
+        Position of the point below the sensor [°].
+    altitude : float
+        Height above the water [m], > 0.
+
+    Raises
+    ------
+    SensorError
+        For a position out of range or a non-positive altitude.
+
+    Notes
+    -----
+    The sensor is at ECEF ``P(lon, lat, altitude)`` and the view angles are
+    :func:`~glint.sensors.base.angles_to_position` from each ground point
+    (height 0). Points whose view zenith is 90° or more do not see the
+    sensor (NaN). ``extras["slant_range"]`` holds the distance [m].
+
+    Examples
+    --------
+    >>> s = NadirPoint(lon=0.0, lat=0.0, altitude=1000.0)
+    >>> va = s.view_angles(GroundPoints.from_lonlat(0.0, 0.0), None)
+    >>> float(va.view_zenith)
+    0.0
+    """
+
+    smooth = True
+
+    def __init__(self, *, lon: float, lat: float, altitude: float) -> None:
+        self.lon = check_closed_interval(lon, "lon", -180.0, 180.0)
+        self.lat = check_closed_interval(lat, "lat", -90.0, 90.0)
+        self.altitude = check_positive(altitude, "altitude", "m")
+        self._xyz = ecef_from_lonlat(self.lon, self.lat, self.altitude)
+
+    def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
+        """View angles towards the sensor from every point."""
+        vz, va, d = angles_to_position(points.lon, points.lat, 0.0, *self._xyz)
+        hidden = ~(vz < 90.0)
+        vz = np.where(hidden, np.nan, vz)
+        va = np.where(hidden, np.nan, va)
+        return ViewAngles(vz, va, None, {"slant_range": d, "unseen": int(np.sum(hidden))})
+
+    def __repr__(self) -> str:
+        return f"NadirPoint(lon={self.lon!r}, lat={self.lat!r}, altitude={self.altitude!r})"
+
+
+@register_sensor_kind(
+    "nadir-point",
+    keys=("lon", "lat", "altitude"),
+    summary="a sensor at one position above the water (default: above the grid centre)",
+)
+def _build(r: TableReader) -> NadirPoint | None:
+    alt = r.number("altitude", low=0.0, low_open=True, unit="m")
+    if r.has("lon") or r.has("lat"):
+        lon = r.number("lon", low=-180.0, high=180.0, unit="deg")
+        lat = r.number("lat", low=-90.0, high=90.0, unit="deg")
+    else:
+        centre = r.grid_centre("lon")
+        lon, lat = centre if centre else (None, None)
+    if None in (alt, lon, lat):
+        return None
+    return NadirPoint(lon=lon, lat=lat, altitude=alt)
