@@ -29,6 +29,7 @@ from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, NamedTuple
 
+import numba
 import numpy as np
 from affine import Affine
 from pyproj import CRS, Proj, Transformer
@@ -853,8 +854,67 @@ def _axis_weights(nodes: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, np.nda
     return i, (at - nodes[i]) / (nodes[i + 1] - nodes[i])
 
 
+def _lattice_weights(
+    v: np.ndarray, node_rows: Any, node_cols: Any, rows: Any, cols: Any
+) -> tuple[np.ndarray, ...]:
+    """Validate a node lattice and return ``(v, ir, tr, ic, tc)`` for the
+    compiled loops; a single-node axis is padded to two equal nodes."""
+    nr, nc = np.asarray(node_rows, dtype=float), np.asarray(node_cols, dtype=float)
+    r, c = np.atleast_1d(np.asarray(rows, dtype=float)), np.atleast_1d(np.asarray(cols, dtype=float))
+    if nr.ndim != 1 or nc.ndim != 1 or v.shape != (nr.size, nc.size):
+        raise GridError(
+            f"values_at_nodes has shape {v.shape!r}; expected "
+            f"(len(node_rows), len(node_cols)) = ({nr.size}, {nc.size})"
+        )
+    if np.any(np.diff(nr) <= 0) or np.any(np.diff(nc) <= 0):
+        raise GridError("node_rows and node_cols must be strictly increasing")
+    ir, tr = _axis_weights(nr, r)
+    ic, tc = _axis_weights(nc, c)
+    v = np.asarray(v, dtype=np.float64)
+    if nr.size == 1:
+        v = np.concatenate([v, v], axis=0)
+    if nc.size == 1:
+        v = np.concatenate([v, v], axis=1)
+    return (np.ascontiguousarray(v), ir.astype(np.intp), tr.astype(np.float64),
+            ic.astype(np.intp), tc.astype(np.float64))
+
+
+@numba.njit(parallel=True, cache=True)
+def _bilinear_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
+    for i in numba.prange(ir.size):
+        r0 = ir[i]
+        t = tr[i]
+        for j in range(ic.size):
+            c0 = ic[j]
+            u = tc[j]
+            top = v[r0, c0] * (1.0 - u) + v[r0, c0 + 1] * u
+            bottom = v[r0 + 1, c0] * (1.0 - u) + v[r0 + 1, c0 + 1] * u
+            out[i, j] = top * (1.0 - t) + bottom * t
+
+
+@numba.njit(parallel=True, cache=True)
+def _bilinear_azimuth_loop(sv, cv, ir, tr, ic, tc, out):  # pragma: no cover - compiled
+    to_deg = 180.0 / math.pi
+    for i in numba.prange(ir.size):
+        r0 = ir[i]
+        t = tr[i]
+        for j in range(ic.size):
+            c0 = ic[j]
+            u = tc[j]
+            s = ((sv[r0, c0] * (1.0 - u) + sv[r0, c0 + 1] * u) * (1.0 - t)
+                 + (sv[r0 + 1, c0] * (1.0 - u) + sv[r0 + 1, c0 + 1] * u) * t)
+            c = ((cv[r0, c0] * (1.0 - u) + cv[r0, c0 + 1] * u) * (1.0 - t)
+                 + (cv[r0 + 1, c0] * (1.0 - u) + cv[r0 + 1, c0 + 1] * u) * t)
+            a = math.atan2(s, c) * to_deg
+            if a < 0.0:
+                a += 360.0
+            if a >= 360.0:
+                a -= 360.0
+            out[i, j] = a
+
+
 def interpolate_nodes(
-    values_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any
+    values_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any, *, dtype: Any = None
 ) -> np.ndarray:
     """Bilinear interpolation from a node lattice to pixel rows and columns.
 
@@ -867,12 +927,14 @@ def interpolate_nodes(
     rows, cols : array_like
         1-D requested rows and columns (fractional allowed). Points outside
         the node range are extrapolated linearly from the edge interval.
+    dtype : numpy dtype, optional
+        Output type (the arithmetic is float64 either way); default the
+        dtype of ``values_at_nodes`` if floating, else float64.
 
     Returns
     -------
     numpy.ndarray, shape (len(rows), len(cols))
-        Interpolated values; the dtype of ``values_at_nodes`` if floating,
-        else float64. NaN at a node spreads to the cells touching it.
+        Interpolated values. NaN at a node spreads to the cells touching it.
 
     Raises
     ------
@@ -881,9 +943,11 @@ def interpolate_nodes(
 
     Notes
     -----
-    Separable: first along rows, ``v = (1 - t) V[i] + t V[i + 1]`` with
-    ``t = (r - R[i]) / (R[i + 1] - R[i])``, then along columns. Exact for
-    fields linear in row and column (and for bilinear ones).
+    ``v = (1 - t)[(1 - u) V[i, j] + u V[i, j + 1]] + t[(1 - u) V[i + 1, j] +
+    u V[i + 1, j + 1]]`` with ``t = (r - R[i]) / (R[i + 1] - R[i])`` and
+    ``u`` likewise along columns: exact for fields linear in row and column
+    (and for bilinear ones). One compiled pass over the output (numba), so a
+    strip of a large grid costs no full-size temporaries.
 
     Examples
     --------
@@ -892,31 +956,16 @@ def interpolate_nodes(
     array([[10., 15., 20.]])
     """
     v = np.asarray(values_at_nodes)
-    if not np.issubdtype(v.dtype, np.floating):
-        v = v.astype(float)
-    nr, nc = np.asarray(node_rows, dtype=float), np.asarray(node_cols, dtype=float)
-    r, c = np.atleast_1d(np.asarray(rows, dtype=float)), np.atleast_1d(np.asarray(cols, dtype=float))
-    if v.shape != (nr.size, nc.size) or nr.ndim != 1 or nc.ndim != 1:
-        raise GridError(
-            f"values_at_nodes has shape {v.shape!r}; expected "
-            f"(len(node_rows), len(node_cols)) = ({nr.size}, {nc.size})"
-        )
-    if np.any(np.diff(nr) <= 0) or np.any(np.diff(nc) <= 0):
-        raise GridError("node_rows and node_cols must be strictly increasing")
-    ir, tr = _axis_weights(nr, r)
-    ic, tc = _axis_weights(nc, c)
-    tr, tc = tr.astype(v.dtype), tc.astype(v.dtype)
-    if nr.size > 1:
-        along = v[ir] * (1 - tr)[:, None] + v[ir + 1] * tr[:, None]
-    else:
-        along = v[ir]
-    if nc.size > 1:
-        return along[:, ic] * (1 - tc) + along[:, ic + 1] * tc
-    return along[:, ic]
+    if dtype is None:
+        dtype = v.dtype if np.issubdtype(v.dtype, np.floating) else np.float64
+    v, ir, tr, ic, tc = _lattice_weights(v, node_rows, node_cols, rows, cols)
+    out = np.empty((ir.size, ic.size), dtype=dtype)
+    _bilinear_loop(v, ir, tr, ic, tc, out)
+    return out
 
 
 def interpolate_azimuth_nodes(
-    azimuth_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any
+    azimuth_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any, *, dtype: Any = np.float64
 ) -> np.ndarray:
     """Bilinear interpolation of azimuths [°] through their sine and cosine.
 
@@ -931,7 +980,8 @@ def interpolate_azimuth_nodes(
     True
     """
     a = np.radians(np.asarray(azimuth_at_nodes, dtype=float))
-    s = interpolate_nodes(np.sin(a), node_rows, node_cols, rows, cols)
-    c = interpolate_nodes(np.cos(a), node_rows, node_cols, rows, cols)
-    out = np.degrees(np.arctan2(s, c)) % 360.0
-    return np.where(out >= 360.0, out - 360.0, out)
+    sv, ir, tr, ic, tc = _lattice_weights(np.sin(a), node_rows, node_cols, rows, cols)
+    cv = _lattice_weights(np.cos(a), node_rows, node_cols, rows, cols)[0]
+    out = np.empty((ir.size, ic.size), dtype=dtype)
+    _bilinear_azimuth_loop(sv, cv, ir, tr, ic, tc, out)
+    return out
