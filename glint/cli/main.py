@@ -7,11 +7,47 @@ import logging
 import click
 
 from glint import __version__
+from glint.errors import (
+    GlintError,
+    GridError,
+    InputError,
+    InputFileError,
+    SceneError,
+    SensorError,
+)
 
-__all__ = ["cli"]
+__all__ = ["cli", "exit_code_for"]
+
+#: Errors caused by what the user gave (exit code 2, like a usage error);
+#: every other glint error (writing outputs, runtime failures) exits with 1.
+_USER_ERRORS = (SceneError, GridError, InputError, SensorError, InputFileError)
 
 
-@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+def exit_code_for(exc: GlintError) -> int:
+    """Exit code of the ``glint`` command for a glint error.
+
+    2 for problems with the user's input (scene file, grid, times, input
+    files), 1 for failures while computing or writing outputs.
+    """
+    return 2 if isinstance(exc, _USER_ERRORS) else 1
+
+
+class _GlintGroup(click.Group):
+    """Click group that turns glint errors into a one-line message and an
+    exit code, without a traceback."""
+
+    def invoke(self, ctx: click.Context):  # noqa: D102 - click API
+        try:
+            return super().invoke(ctx)
+        except GlintError as exc:
+            click.echo(f"Error: {exc}", err=True)
+            ctx.exit(exit_code_for(exc))
+        except OSError as exc:  # disk full, permissions, ... outside glint's checks
+            click.echo(f"Error: {exc}", err=True)
+            ctx.exit(1)
+
+
+@click.group(cls=_GlintGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="glint")
 @click.option("-v", "--verbose", count=True, help="More log output (repeatable).")
 @click.option("-q", "--quiet", count=True, help="Less log output (repeatable).")
@@ -24,3 +60,14 @@ def cli(verbose: int, quiet: int) -> None:
     level = logging.WARNING - 10 * verbose + 10 * quiet
     logging.basicConfig(level=max(logging.DEBUG, min(level, logging.CRITICAL)),
                         format="%(levelname)s %(name)s: %(message)s")
+
+
+def _register() -> None:
+    from glint.cli.map import map_command
+    from glint.cli.sun import sun_command
+
+    cli.add_command(map_command)
+    cli.add_command(sun_command)
+
+
+_register()

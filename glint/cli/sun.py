@@ -1,0 +1,108 @@
+"""``glint sun``: sun position and glint for one place, time and view."""
+
+from __future__ import annotations
+
+import math
+
+import click
+import numpy as np
+
+from glint.cli.map import CAUTION
+from glint.scene import parse_time
+
+__all__ = ["sun_command"]
+
+_EPILOG = """\b
+Examples:
+  glint sun --lat 37.01 --lon -8.00 --time 2026-06-14T09:40:00Z
+  glint sun --lat 52.1 --lon 4.3 --time 2026-06-14T12:00:00+02:00 --wind-speed 7
+  glint sun --lat 37.01 --lon -8.00 --time 2026-06-14T09:40:00Z \\
+            --view-zenith 20 --view-azimuth 280 --wind-direction 250
+
+\b
+The view direction points from the water to the sensor (zenith from the
+vertical, azimuth clockwise from true north); the default is nadir.
+"""
+
+
+def _range(low: float, high: float, *, max_open: bool = False) -> click.FloatRange:
+    return click.FloatRange(low, high, max_open=max_open)
+
+
+@click.command("sun", epilog=_EPILOG)
+@click.option("--lat", "latitude", required=True, type=_range(-90, 90),
+              help="Latitude [deg, north positive].")
+@click.option("--lon", "longitude", required=True, type=_range(-180, 180),
+              help="Longitude [deg, east positive].")
+@click.option("--time", "time_text", required=True, metavar="TIME",
+              help="ISO 8601 time with Z or an offset, e.g. 2026-06-14T09:40:00Z.")
+@click.option("--elevation", default=0.0, show_default=True, type=_range(-1000, 9000),
+              help="Height of the water surface above the WGS 84 ellipsoid [m].")
+@click.option("--wind-speed", default=5.0, show_default=True, type=_range(0, 100),
+              help="Wind speed 10 m above the water [m/s].")
+@click.option("--wind-direction", default=None, type=_range(0, 360, max_open=True),
+              help="Direction the wind blows from [deg]; omitted: isotropic waves.")
+@click.option("--view-zenith", default=0.0, show_default=True, type=_range(0, 90, max_open=True),
+              help="Zenith angle of the direction from the water to the sensor [deg].")
+@click.option("--view-azimuth", default=0.0, show_default=True,
+              type=_range(0, 360, max_open=True),
+              help="Azimuth of the direction from the water to the sensor [deg].")
+@click.option("--wavelength", default=550.0, show_default=True, type=_range(350, 1000),
+              help="Wavelength [nm] for the refractive index of sea water.")
+def sun_command(latitude: float, longitude: float, time_text: str, elevation: float,
+                wind_speed: float, wind_direction: float | None, view_zenith: float,
+                view_azimuth: float, wavelength: float) -> None:
+    """Print the sun's position and the expected glint for one view.
+
+    Sun angles follow NREL's solar position algorithm (refraction at
+    1013.25 hPa and 12 degC); glint uses the Cox-Munk wave-slope statistics,
+    sea water at 20 degC and 35 PSU, and the Fresnel reflectance.
+    """
+    from glint.geometry import glint_angle
+    from glint.optics import water_refractive_index
+    from glint.reflect import glint_fraction, glint_radiance, glint_reflectance
+    from glint.sun import earth_sun_distance, solar_position, sun_solid_angle
+    from glint.surface import SLOPE_MODEL_WIND_HEIGHT, wind_speed_at_height
+
+    time = parse_time(time_text, "--time")
+    pos = solar_position(time, latitude, longitude, elevation=elevation)
+    zenith = float(pos.zenith)
+    azimuth = float(pos.azimuth)
+    distance = float(earth_sun_distance(time))
+    stamp = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("T", " ")
+
+    click.echo(f"Time (UTC):             {stamp}")
+    ns = "N" if latitude >= 0 else "S"
+    ew = "E" if longitude >= 0 else "W"
+    click.echo(f"Place:                  {abs(latitude):.5f} {ns}, {abs(longitude):.5f} {ew}, "
+               f"{elevation:g} m above the ellipsoid")
+    click.echo(f"Sun zenith:             {zenith:.3f} deg (refraction included)")
+    click.echo(f"Sun azimuth:            {azimuth:.3f} deg (clockwise from true north)")
+    click.echo(f"Sun elevation:          {90.0 - zenith:.3f} deg")
+    click.echo(f"Earth-sun distance:     {distance:.6f} AU")
+    click.echo(f"View:                   zenith {view_zenith:g} deg, azimuth "
+               f"{view_azimuth:g} deg (water to sensor)")
+    if zenith >= 90.0:
+        click.echo("The sun is below the horizon: no sun glint.")
+    else:
+        n = float(water_refractive_index(wavelength, temperature=20.0, salinity=35.0))
+        wind = float(wind_speed_at_height(wind_speed, 10.0,
+                                          target_height=SLOPE_MODEL_WIND_HEIGHT["cox-munk"]))
+        args = (zenith, azimuth, view_zenith, view_azimuth, wind)
+        kw = {"wind_direction": wind_direction, "model": "cox-munk"}
+        angle = float(glint_angle(zenith, azimuth, view_zenith, view_azimuth))
+        refl = float(glint_reflectance(*args, refractive_index=n, **kw))
+        rad = float(glint_radiance(*args, refractive_index=n, **kw))
+        frac = float(glint_fraction(*args, sun_solid_angle=float(sun_solid_angle(distance)), **kw))
+        wd = "unknown (isotropic)" if wind_direction is None else f"from {wind_direction:g} deg"
+        click.echo(f"Wind:                   {wind_speed:g} m/s at 10 m, {wd}")
+        click.echo(f"Refractive index:       {n:.4f} at {wavelength:g} nm")
+        click.echo(f"Glint angle:            {angle:.3f} deg")
+        click.echo(f"Glint reflectance:      {_g(refl)}")
+        click.echo(f"Glint radiance L/E:     {_g(rad)} sr-1")
+        click.echo(f"Glint fraction:         {_g(frac)}")
+    click.echo(CAUTION)
+
+
+def _g(value: float) -> str:
+    return "nan" if math.isnan(value) else f"{value:.4g}"
