@@ -1,0 +1,449 @@
+"""Scene -> per-pixel glint arrays, block by block.
+
+This module is the one place that walks a grid. For each scene time it
+
+1. plans the geometry: sun and (for smooth sensors) view angles are computed
+   exactly on a lattice of tie-point nodes and interpolated bilinearly to the
+   pixels (azimuths through their sine and cosine). The node spacing is chosen
+   per scene and time so that the interpolation error, measured against exact
+   values at the centres of lattice cells, stays below
+   ``scene.tie_point_tolerance`` (1e-4 degrees by default). The error is the
+   angle between the interpolated and the exact direction of the sun (and of
+   the sensor), so an azimuth error near the zenith, where azimuth is
+   meaningless, counts only as much as the direction moves. When no spacing
+   meets the bound every pixel is computed exactly;
+2. evaluates, strip by strip, the fused glint kernel of :mod:`glint.reflect`;
+3. classes the result.
+
+:func:`iter_blocks` streams strips (bounded memory at any grid size);
+:func:`compute_dataset` returns an :class:`xarray.Dataset`, eager or, with
+``chunks``, lazy and dask-backed.
+"""
+
+from __future__ import annotations
+
+import logging
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass
+
+import numpy as np
+
+from glint import grid as _grid
+from glint.errors import InputError
+from glint.reflect import glint_kernel
+from glint.sensors import GroundPoints
+from glint.sun import earth_sun_distance, solar_position, sun_solid_angle
+from glint.surface import SLOPE_MODEL_WIND_HEIGHT, gram_charlier_coefficients, slope_variances, wind_speed_at_height
+from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
+
+__all__ = [
+    "GeometryPlan",
+    "KernelParameters",
+    "kernel_parameters",
+    "plan_geometry",
+    "direction_error",
+    "compute_window",
+    "iter_blocks",
+    "compute_dataset",
+    "classify",
+    "scene_center_summary",
+]
+
+log = logging.getLogger(__name__)
+
+#: Node spacings tried, coarsest first [pixels].
+_NODE_STEPS = (64, 32, 16, 8, 4, 2)
+#: Cells of the lattice checked against exact values when choosing a spacing.
+_CHECK_CELLS = 24
+
+_KERNEL_OUTPUTS = ("glint_angle", "glint_reflectance", "glint_radiance", "glint_fraction")
+
+
+@dataclass(frozen=True)
+class KernelParameters:
+    """Scene-wide inputs of the glint kernel for one time."""
+
+    refractive_index: float
+    sigma2_crosswind: float
+    sigma2_upwind: float
+    wind_direction: float
+    sun_solid_angle: float
+    distribution: str
+    gram_charlier: dict | None
+    shadowing: bool
+
+
+@dataclass(frozen=True)
+class GeometryPlan:
+    """Where the angles of one scene time come from.
+
+    ``step`` is the node spacing in pixels (0 = every pixel exact).
+    ``nodes`` holds node-lattice arrays (``sun_zenith``, ``sun_azimuth`` and,
+    for smooth sensors, ``view_zenith``, ``view_azimuth``) of shape
+    ``(len(node_rows), len(node_cols))``. ``max_error`` is the largest
+    interpolation error found when the spacing was chosen [°].
+    """
+
+    time: np.datetime64
+    step: int
+    node_rows: np.ndarray | None
+    node_cols: np.ndarray | None
+    nodes: dict
+    views_interpolated: bool
+    max_error: float
+
+
+def kernel_parameters(scene, time) -> KernelParameters:
+    """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
+    surf = scene.surface
+    model_height = SLOPE_MODEL_WIND_HEIGHT[surf.slope_model]
+    wind = float(wind_speed_at_height(surf.wind_speed, surf.wind_height, target_height=model_height))
+    s2c, s2u = slope_variances(wind, model=surf.slope_model)
+    gc = None
+    if surf.distribution == "gram-charlier":
+        gc = {k: float(v) for k, v in gram_charlier_coefficients(wind).items()}
+    return KernelParameters(
+        refractive_index=float(scene.water.refractive_index_value()),
+        sigma2_crosswind=float(s2c),
+        sigma2_upwind=float(s2u),
+        wind_direction=float("nan") if surf.wind_direction is None else float(surf.wind_direction),
+        sun_solid_angle=float(sun_solid_angle(earth_sun_distance(time))),
+        distribution=surf.distribution,
+        gram_charlier=gc,
+        shadowing=bool(surf.shadowing),
+    )
+
+
+def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: bool = True) -> dict:
+    """Sun (and view) angles computed exactly at pixel indices."""
+    pts = GroundPoints.from_pixels(scene.grid, rows, cols)
+    va = scene.sensor.view_angles(pts, time)
+    t = time if va.time is None else va.time
+    opts = scene.sun
+    sp = solar_position(
+        t, pts.lat, pts.lon,
+        elevation=opts.surface_elevation, pressure=opts.pressure,
+        temperature=opts.air_temperature, delta_t=opts.delta_t, refraction=opts.refraction,
+    )
+    out = {"sun_zenith": np.asarray(sp.zenith, float), "sun_azimuth": np.asarray(sp.azimuth, float)}
+    if views:
+        out["view_zenith"] = np.asarray(va.view_zenith, float)
+        out["view_azimuth"] = np.asarray(va.view_azimuth, float)
+    return out
+
+
+def _interp(name: str, values: np.ndarray, node_rows, node_cols, rows, cols, dtype=np.float64) -> np.ndarray:
+    if name.endswith("azimuth"):
+        return _grid.interpolate_azimuth_nodes(values, node_rows, node_cols, rows, cols, dtype=dtype)
+    return _grid.interpolate_nodes(values, node_rows, node_cols, rows, cols, dtype=dtype)
+
+
+def direction_error(zenith_a, azimuth_a, zenith_b, azimuth_b) -> np.ndarray:
+    """Angle between two directions given as zenith/azimuth pairs [°].
+
+    The haversine form, accurate for tiny angles:
+    ``hav d = hav(dz) + sin za sin zb hav(da)``. An azimuth error matters only
+    in proportion to the sine of the zenith (at the zenith it is no error).
+    """
+    za, zb = np.radians(zenith_a), np.radians(zenith_b)
+    dz = za - zb
+    da = np.radians(np.asarray(azimuth_a, float) - np.asarray(azimuth_b, float))
+    h = np.sin(dz / 2) ** 2 + np.sin(za) * np.sin(zb) * np.sin(da / 2) ** 2
+    return np.degrees(2 * np.arcsin(np.sqrt(np.clip(h, 0.0, 1.0))))
+
+
+def _max_direction_error(approx: dict, exact: dict) -> float:
+    err = 0.0
+    for who in ("sun", "view"):
+        if f"{who}_zenith" not in approx:
+            continue
+        d = direction_error(approx[f"{who}_zenith"], approx[f"{who}_azimuth"],
+                            exact[f"{who}_zenith"], exact[f"{who}_azimuth"])
+        d = d[np.isfinite(d)]
+        if d.size:
+            err = max(err, float(d.max()))
+    return err
+
+
+def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> GeometryPlan:
+    """Choose the node spacing for one scene time (see module docstring).
+
+    For each spacing, coarsest first, the angles at the centres of up to
+    ``_CHECK_CELLS`` lattice cells spread over the grid (the points farthest
+    from any node) are computed exactly and compared with their
+    interpolation. The first spacing whose largest error is within
+    ``scene.tie_point_tolerance`` is kept.
+    """
+    g = scene.grid
+    smooth = bool(getattr(scene.sensor, "smooth", False))
+    tol = float(scene.tie_point_tolerance)
+    for step in steps:
+        if step >= max(g.shape):
+            continue
+        node_rows, node_cols = g.nodes(step)
+        if len(node_rows) < 2 or len(node_cols) < 2:
+            continue
+        nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
+        nodes = _exact_angles(scene, time, nr, nc, views=smooth)
+        # Cell centres spread over the lattice.
+        ci = np.unique(np.linspace(0, len(node_rows) - 2, min(_CHECK_CELLS, len(node_rows) - 1)).round().astype(int))
+        cj = np.unique(np.linspace(0, len(node_cols) - 2, min(_CHECK_CELLS, len(node_cols) - 1)).round().astype(int))
+        mr = 0.5 * (node_rows[ci] + node_rows[ci + 1])
+        mc = 0.5 * (node_cols[cj] + node_cols[cj + 1])
+        mrr, mcc = np.meshgrid(mr, mc, indexing="ij")
+        exact = _exact_angles(scene, time, mrr, mcc, views=smooth)
+        approx = {name: _interp(name, vals, node_rows, node_cols, mr, mc) for name, vals in nodes.items()}
+        err = _max_direction_error(approx, exact)
+        log.debug("tie-point step %d: max interpolation error %.3g deg", step, err)
+        if err <= tol:
+            return GeometryPlan(time, step, node_rows, node_cols, nodes, smooth, err)
+    log.info("no tie-point spacing meets %.3g deg; computing every pixel exactly", tol)
+    return GeometryPlan(time, 0, None, None, {}, False, 0.0)
+
+
+def classify(values: np.ndarray, thresholds: Sequence[float]) -> np.ndarray:
+    """Glint class per pixel: index of the first threshold above the value.
+
+    Class ``k`` holds ``thresholds[k-1] <= value < thresholds[k]``; NaN gets
+    :data:`~glint.variables.CLASS_NODATA`.
+    """
+    v = np.asarray(values)
+    cls = np.digitize(v, np.asarray(thresholds, dtype=float), right=False).astype(np.uint8)
+    cls[~np.isfinite(v)] = CLASS_NODATA
+    return cls
+
+
+def compute_window(
+    scene,
+    plan: GeometryPlan,
+    params: KernelParameters,
+    row_slice: slice,
+    col_slice: slice | None = None,
+    variables: Sequence[str] = DEFAULT_VARIABLES,
+) -> dict[str, np.ndarray]:
+    """Every requested variable for one window of the grid.
+
+    Returns float32 arrays (uint8 for ``glint_class``) of the window's shape.
+    """
+    g = scene.grid
+    col_slice = col_slice or slice(0, g.width)
+    rows = np.arange(row_slice.start, row_slice.stop, dtype=float)
+    cols = np.arange(col_slice.start, col_slice.stop, dtype=float)
+    ang: dict[str, np.ndarray] = {}
+    if not plan.step or not plan.views_interpolated:
+        rr, cc = np.meshgrid(rows, cols, indexing="ij")
+    if plan.step:
+        for name, vals in plan.nodes.items():
+            ang[name] = _interp(name, vals, plan.node_rows, plan.node_cols, rows, cols, np.float32)
+        if not plan.views_interpolated:
+            pts = GroundPoints.from_pixels(scene.grid, rr, cc)
+            va = scene.sensor.view_angles(pts, plan.time)
+            ang["view_zenith"] = np.asarray(va.view_zenith, float)
+            ang["view_azimuth"] = np.asarray(va.view_azimuth, float)
+            if va.time is not None:
+                # Per-pixel imaging times from a sensor that is not smooth:
+                # the sun is evaluated exactly where the pixel is seen.
+                seen = np.isfinite(ang["view_zenith"])
+                if np.any(seen):
+                    sp = solar_position(
+                        np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen],
+                        elevation=scene.sun.surface_elevation, pressure=scene.sun.pressure,
+                        temperature=scene.sun.air_temperature, delta_t=scene.sun.delta_t,
+                        refraction=scene.sun.refraction,
+                    )
+                    ang["sun_zenith"][seen] = sp.zenith
+                    ang["sun_azimuth"][seen] = sp.azimuth
+    else:
+        ang = _exact_angles(scene, plan.time, rr, cc)
+
+    f32 = {k: np.ascontiguousarray(v, dtype=np.float32) for k, v in ang.items()}
+    out = glint_kernel(
+        f32["sun_zenith"], f32["sun_azimuth"], f32["view_zenith"], f32["view_azimuth"],
+        refractive_index=params.refractive_index,
+        sigma2_crosswind=params.sigma2_crosswind,
+        sigma2_upwind=params.sigma2_upwind,
+        wind_direction=params.wind_direction,
+        sun_solid_angle=params.sun_solid_angle,
+        distribution=params.distribution,
+        gram_charlier=params.gram_charlier,
+        shadowing=params.shadowing,
+    )
+    result: dict[str, np.ndarray] = {}
+    for name in variables:
+        if name in f32:
+            result[name] = f32[name]
+        elif name in out:
+            result[name] = out[name]
+        elif name == "glint_class":
+            result[name] = classify(out[scene.classes.variable], scene.classes.thresholds)
+        else:  # pragma: no cover - guarded by _check_variables
+            raise InputError(f"unknown variable {name!r}")
+    return result
+
+
+def _check_variables(variables: Sequence[str] | None) -> tuple[str, ...]:
+    if variables is None:
+        return DEFAULT_VARIABLES
+    bad = [v for v in variables if v not in VARIABLES]
+    if bad:
+        raise InputError(f"unknown variable(s) {bad!r}; allowed: {', '.join(VARIABLES)}")
+    return tuple(variables)
+
+
+def _scene_time(scene, time) -> np.datetime64:
+    if time is None:
+        return scene.times[0]
+    return np.datetime64(time, "ns")
+
+
+def iter_blocks(
+    scene,
+    *,
+    time=None,
+    block_rows: int = 512,
+    variables: Sequence[str] | None = None,
+    plan: GeometryPlan | None = None,
+) -> Iterator[tuple[slice, dict[str, np.ndarray]]]:
+    """Stream full-width strips of the grid: ``(row_slice, {name: array})``.
+
+    Memory stays bounded by the strip size whatever the grid size.
+    ``time`` defaults to the scene's first time.
+    """
+    variables = _check_variables(variables)
+    t = _scene_time(scene, time)
+    plan = plan or plan_geometry(scene, t)
+    params = kernel_parameters(scene, t)
+    for r0, r1 in scene.grid.blocks(block_rows):
+        rs = slice(r0, r1)
+        yield rs, compute_window(scene, plan, params, rs, None, variables)
+
+
+def compute_dataset(
+    scene,
+    *,
+    time=None,
+    variables: Sequence[str] | None = None,
+    chunks: int | tuple[int, int] | None = None,
+):
+    """The scene's glint variables as an :class:`xarray.Dataset`.
+
+    Parameters
+    ----------
+    scene : glint.scene.Scene
+    time : datetime-like, optional
+        One of the scene's times (default: the first).
+    variables : sequence of str, optional
+        Names from :data:`glint.variables.VARIABLES` (default: all).
+    chunks : int or (int, int), optional
+        With chunks, the variables are lazy dask arrays computed window by
+        window when asked for (requires dask); without, numpy arrays computed
+        strip by strip now.
+
+    Returns
+    -------
+    xarray.Dataset
+        Dimensions ``(y, x)`` with projection coordinates of pixel centres, a
+        scalar ``time`` coordinate, and CF attributes from
+        :data:`glint.variables.VARIABLES`.
+    """
+    import xarray as xr
+
+    variables = _check_variables(variables)
+    t = _scene_time(scene, time)
+    g = scene.grid
+    plan = plan_geometry(scene, t)
+    params = kernel_parameters(scene, t)
+    if chunks is None:
+        data = {v: np.empty(g.shape, dtype=VARIABLES[v].dtype) for v in variables}
+        for rs, block in iter_blocks(scene, time=t, variables=variables, plan=plan):
+            for v in variables:
+                data[v][rs] = block[v]
+    else:
+        data = _lazy_arrays(scene, plan, params, variables, chunks)
+    xs = g.xy(np.zeros(g.width), np.arange(g.width, dtype=float))[0]
+    ys = g.xy(np.arange(g.height, dtype=float), np.zeros(g.height))[1]
+    ds = xr.Dataset(
+        {
+            v: (("y", "x"), data[v], _attrs(v, scene))
+            for v in variables
+        },
+        coords={"y": ys, "x": xs, "time": t},
+    )
+    ds.attrs.update(scene_attributes(scene, t, plan))
+    return ds
+
+
+def _attrs(name: str, scene) -> dict:
+    var = VARIABLES[name]
+    a = {"long_name": var.long_name, "units": var.units}
+    if var.standard_name:
+        a["standard_name"] = var.standard_name
+    if var.comment:
+        a["comment"] = var.comment
+    if name == "glint_class":
+        a["flag_values"] = np.arange(len(scene.classes.names), dtype=np.uint8)
+        a["flag_meanings"] = " ".join(n.replace(" ", "_") for n in scene.classes.names)
+        a["glint_class_thresholds"] = np.asarray(scene.classes.thresholds, dtype=float)
+        a["glint_class_variable"] = scene.classes.variable
+    return a
+
+
+def scene_attributes(scene, time, plan: GeometryPlan | None = None) -> dict:
+    """Scene-level metadata recorded with every output."""
+    s = scene.surface
+    attrs = {
+        "scene_name": scene.name,
+        "scene_time": str(np.datetime_as_string(np.datetime64(time, "s"), unit="s")) + "Z",
+        "wind_speed": float(s.wind_speed),
+        "wind_height": float(s.wind_height),
+        "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),
+        "slope_model": s.slope_model,
+        "slope_distribution": s.distribution,
+        "shadowing": int(bool(s.shadowing)),
+        "refractive_index": float(scene.water.refractive_index_value()),
+        "wavelength_nm": float(scene.water.wavelength),
+    }
+    if plan is not None:
+        attrs["tie_point_step"] = int(plan.step)
+        attrs["tie_point_max_error_deg"] = float(plan.max_error)
+    return attrs
+
+
+def _lazy_arrays(scene, plan, params, variables, chunks) -> dict:
+    """Dask arrays computing every float variable of a chunk in one kernel call."""
+    try:
+        import dask.array as da
+    except ImportError as exc:  # pragma: no cover - depends on extras
+        raise ImportError("lazy computation needs dask: pip install 'glint[dask]'") from exc
+    g = scene.grid
+    if isinstance(chunks, int):
+        chunks = (chunks, chunks)
+    floats = [v for v in variables if v != "glint_class"]
+    if "glint_class" in variables and scene.classes.variable not in floats:
+        floats.append(scene.classes.variable)
+    template = da.zeros(g.shape, chunks=chunks, dtype=np.float32)
+
+    def _stack(block, block_info=None):
+        (r0, r1), (c0, c1) = block_info[0]["array-location"]
+        res = compute_window(scene, plan, params, slice(r0, r1), slice(c0, c1), floats)
+        return np.stack([res[v] for v in floats])
+
+    stacked = da.map_blocks(
+        _stack, template, dtype=np.float32, new_axis=0,
+        chunks=((len(floats),),) + template.chunks, name="glint-block",
+    )
+    out = {v: stacked[i] for i, v in enumerate(floats) if v in variables}
+    if "glint_class" in variables:
+        src = stacked[floats.index(scene.classes.variable)]
+        out["glint_class"] = da.map_blocks(
+            classify, src, scene.classes.thresholds, dtype=np.uint8, name="glint-class"
+        )
+    return out
+
+
+def scene_center_summary(scene, time) -> dict:
+    """Sun angles at the grid centre at ``time`` (for titles and reports)."""
+    g = scene.grid
+    rc = np.array([(g.height - 1) / 2.0]), np.array([(g.width - 1) / 2.0])
+    ang = _exact_angles(scene, time, rc[0], rc[1], views=False)
+    return {"sun_zenith": float(ang["sun_zenith"][0]), "sun_azimuth": float(ang["sun_azimuth"][0])}

@@ -1,0 +1,265 @@
+"""The main job: a scene, computed once, written as GeoTIFF, NetCDF and PNG.
+
+One pass over the grid's strips feeds every writer, so the maps of a scene
+are computed once whatever the number of formats. Every file is written
+under a temporary name and renamed into place when complete; if anything
+fails, no partial output is left behind.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import logging
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from glint import compute, io, plot
+from glint.errors import InputError, OutputError
+from glint.variables import CLASS_NODATA, VARIABLES
+
+__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem"]
+
+log = logging.getLogger(__name__)
+
+#: Output formats understood by :func:`write_maps`.
+FORMATS = ("geotiff", "netcdf", "png")
+
+
+@dataclass
+class MapResult:
+    """What :func:`write_maps` wrote and a summary of the maps."""
+
+    files: list[Path] = field(default_factory=list)
+    summaries: list[dict] = field(default_factory=list)
+
+    @property
+    def summary(self) -> dict:
+        """Summary of the first time (most scenes have one)."""
+        return self.summaries[0] if self.summaries else {}
+
+
+def output_stem(scene, time, n_times: int) -> str:
+    """File-name stem of one scene time: ``<stem>[_YYYYmmddTHHMMSS]``."""
+    stem = scene.file_stem
+    if n_times > 1:
+        t = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("-", "").replace(":", "")
+        stem = f"{stem}_{t}Z"
+    return stem
+
+
+def _paths(outdir: Path, stem: str, formats: Sequence[str], float_vars, class_var) -> dict[str, Path]:
+    p: dict[str, Path] = {}
+    if "geotiff" in formats:
+        if float_vars:
+            p["geotiff"] = outdir / f"{stem}_glint.tif"
+        if class_var:
+            p["classes"] = outdir / f"{stem}_glint_class.tif"
+    if "netcdf" in formats:
+        p["netcdf"] = outdir / f"{stem}_glint.nc"
+    if "png" in formats:
+        p["png"] = outdir / f"{stem}_glint.png"
+    return p
+
+
+def write_maps(
+    scene,
+    outdir: str | Path,
+    *,
+    formats: Sequence[str] | None = None,
+    variables: Sequence[str] | None = None,
+    overwrite: bool = False,
+    cog: bool | None = None,
+    block_rows: int = 512,
+    progress: Callable[[int, int], None] | None = None,
+) -> MapResult:
+    """Compute a scene's glint maps and write them.
+
+    Parameters
+    ----------
+    scene : glint.scene.Scene
+    outdir : path-like
+        Output directory (created if missing, when its parent exists).
+    formats : sequence of {"geotiff", "netcdf", "png"}, optional
+        Default: the scene's ``outputs.formats``.
+    variables : sequence of str, optional
+        Variables to write (names of :data:`glint.variables.VARIABLES`);
+        default the scene's ``outputs.variables``.
+    overwrite : bool
+        Replace existing outputs. Without it an existing output is an error,
+        raised before anything is computed.
+    cog : bool, optional
+        Write Cloud Optimized GeoTIFFs (default: the scene's setting).
+    progress : callable(done_rows, total_rows), optional
+        Called after each strip.
+
+    Returns
+    -------
+    MapResult
+        The files written and, per time, a summary: sun angles at the grid
+        centre, largest glint reflectance, share of valid pixels per glint
+        class, and the number of pixels the sensor does not see.
+
+    Raises
+    ------
+    OutputError
+        An output exists (without ``overwrite``) or cannot be written.
+    """
+    formats = tuple(formats or scene.outputs.formats)
+    bad = [f for f in formats if f not in FORMATS]
+    if bad:
+        raise InputError(f"unknown output format(s) {bad!r}; allowed: {', '.join(FORMATS)}")
+    variables = tuple(variables or scene.outputs.variables)
+    unknown = [v for v in variables if v not in VARIABLES]
+    if unknown:
+        raise InputError(f"unknown variable(s) {unknown!r}; allowed: {', '.join(VARIABLES)}")
+    cog = scene.outputs.cog if cog is None else bool(cog)
+    outdir = Path(outdir)
+    _prepare_outdir(outdir)
+
+    float_vars = [v for v in variables if VARIABLES[v].dtype != "uint8"]
+    class_var = "glint_class" in variables
+    # Everything computed: the requested variables plus what the PNG and the
+    # summary need.
+    needed = list(dict.fromkeys(list(variables) + ["glint_reflectance", "view_zenith", "glint_class"]))
+
+    times = scene.times
+    plans = []
+    for t in times:
+        stem = output_stem(scene, t, len(times))
+        paths = _paths(outdir, stem, formats, float_vars, class_var)
+        for path in paths.values():
+            if path.exists() and not overwrite:
+                raise OutputError(f"output {str(path)!r} exists; use overwrite (--overwrite) to replace it")
+        plans.append((t, paths))
+    io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
+
+    result = MapResult()
+    for t, paths in plans:
+        summary = _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog, block_rows, progress)
+        result.summaries.append(summary)
+        result.files.extend(paths[k] for k in ("geotiff", "classes", "netcdf", "png") if k in paths)
+    return result
+
+
+def _prepare_outdir(outdir: Path) -> None:
+    if outdir.exists() and not outdir.is_dir():
+        raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
+    try:
+        outdir.mkdir(parents=False, exist_ok=True)
+    except FileNotFoundError as exc:
+        raise OutputError(
+            f"cannot create output directory {str(outdir)!r}: its parent does not exist"
+        ) from exc
+    except PermissionError as exc:
+        raise OutputError(f"cannot create output directory {str(outdir)!r}: permission denied") from exc
+
+
+def _estimated_bytes(scene, float_vars, class_var, formats) -> int:
+    n = scene.grid.shape[0] * scene.grid.shape[1]
+    per_pixel = 4 * len(float_vars) + (1 if class_var else 0)
+    copies = sum(1 for f in ("geotiff", "netcdf") if f in formats)
+    # Compressed outputs are usually several times smaller than raw; the raw
+    # size is a safe upper bound for the space check.
+    return n * per_pixel * max(copies, 1)
+
+
+def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog, block_rows, progress) -> dict:
+    g = scene.grid
+    plan = compute.plan_geometry(scene, t)
+    attrs = compute.scene_attributes(scene, t, plan)
+    center = compute.scene_center_summary(scene, t)
+    step = plot.decimation_step(g.shape)
+    quick_rows: list[np.ndarray] = []
+    n_classes = len(scene.classes.names)
+    class_counts = np.zeros(n_classes, dtype=np.int64)
+    unseen = 0
+    max_refl = -np.inf
+    class_flags = (
+        np.arange(n_classes, dtype=np.uint8),
+        [n.replace(" ", "_") for n in scene.classes.names],
+        tuple(scene.classes.thresholds),
+    )
+    with contextlib.ExitStack() as stack:
+        writers = []
+        if "geotiff" in paths:
+            writers.append((stack.enter_context(io.GeoTiffWriter(
+                paths["geotiff"], g, float_vars, cog=cog, overwrite=overwrite,
+                compress=scene.outputs.compression, tags=attrs)), float_vars))
+        if "classes" in paths:
+            writers.append((stack.enter_context(io.GeoTiffWriter(
+                paths["classes"], g, ["glint_class"], cog=cog, overwrite=overwrite,
+                compress=scene.outputs.compression, tags=attrs)), ["glint_class"]))
+        if "netcdf" in paths:
+            nc_vars = float_vars + (["glint_class"] if class_var else [])
+            writers.append((stack.enter_context(io.NetCDFWriter(
+                paths["netcdf"], g, nc_vars, attrs=_acdd(scene, t, attrs), time=t,
+                class_flags=class_flags, overwrite=overwrite)), nc_vars))
+        png_tmp = stack.enter_context(io.atomic_path(paths["png"], overwrite=overwrite)) if "png" in paths else None
+
+        for rs, block in compute.iter_blocks(scene, time=t, block_rows=block_rows, variables=needed, plan=plan):
+            for writer, names in writers:
+                writer.write(rs, {n: block[n] for n in names})
+            refl = block["glint_reflectance"]
+            if np.any(np.isfinite(refl)):
+                max_refl = max(max_refl, float(np.nanmax(refl)))
+            cls = block["glint_class"]
+            class_counts += np.bincount(cls[cls != CLASS_NODATA].ravel(), minlength=n_classes)[:n_classes]
+            unseen += int(np.count_nonzero(~np.isfinite(block["view_zenith"])))
+            if png_tmp is not None:
+                first = (-rs.start) % step
+                quick_rows.append(refl[first::step, ::step])
+            if progress is not None:
+                progress(rs.stop, g.height)
+
+        if png_tmp is not None:
+            quick = np.concatenate(quick_rows, axis=0) if quick_rows else np.zeros((1, 1))
+            left, bottom, right, top = g.bounds
+            time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
+            plot.quicklook(
+                quick, (left, right, bottom, top), png_tmp,
+                title=f"{scene.name}: glint reflectance",
+                subtitle=(f"{time_txt} UTC   sun zenith {center['sun_zenith']:.1f}°, "
+                          f"azimuth {center['sun_azimuth']:.1f}° (grid centre)"),
+                label="glint reflectance factor [1]",
+                axis_units=_axis_units(g),
+            )
+
+    total = int(class_counts.sum())
+    return {
+        "time": t,
+        "sun_zenith": center["sun_zenith"],
+        "sun_azimuth": center["sun_azimuth"],
+        "max_glint_reflectance": float(max_refl) if np.isfinite(max_refl) else float("nan"),
+        "class_shares": {
+            name: (float(c) / total if total else 0.0) for name, c in zip(scene.classes.names, class_counts)
+        },
+        "unseen_pixels": unseen,
+        "tie_point_step": plan.step,
+    }
+
+
+def _axis_units(g) -> str:
+    try:
+        return g.crs.axis_info[0].unit_name.replace("metre", "m")
+    except (AttributeError, IndexError):
+        return ""
+
+
+def _acdd(scene, t, attrs) -> dict:
+    """ACDD-1.3 global attributes of a scene's NetCDF."""
+    from glint import __version__
+
+    return {
+        "title": f"Sun glint estimate: {scene.name}",
+        "summary": scene.description or (
+            "Per-pixel sun glint reflectance, normalised radiance, glint fraction and glint angle "
+            "predicted from sun position, view geometry, water optics and a wave-slope distribution."
+        ),
+        "keywords": "sun glint, sunglint angle, Cox-Munk, Fresnel reflectance, remote sensing",
+        "source": f"glint {__version__}",
+        "comment": plot.CAUTION,
+        **attrs,
+    }
