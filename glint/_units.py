@@ -6,11 +6,14 @@ the one place that converts, wraps and checks them.
 
 from __future__ import annotations
 
+import os
+import sys
+import warnings
 from typing import Any
 
 import numpy as np
 
-from glint.errors import InputError
+from glint.errors import InputError, ValidityWarning
 
 __all__ = [
     "ASTRONOMICAL_UNIT",
@@ -22,6 +25,9 @@ __all__ = [
     "wrap_azimuth",
     "check_range",
     "broadcast_inputs",
+    "check_choice",
+    "warn_outside",
+    "user_stacklevel",
 ]
 
 #: Astronomical unit [m] (IAU 2012 Resolution B2, exact).
@@ -96,3 +102,42 @@ def broadcast_inputs(**arrays: Any) -> dict[str, np.ndarray]:
         shapes = ", ".join(f"{n}{np.shape(v)}" for n, v in zip(names, values))
         raise InputError(f"input shapes do not broadcast together: {shapes}") from exc
     return dict(zip(names, out))
+
+
+def check_choice(value: Any, name: str, allowed: tuple[str, ...]) -> str:
+    """Return ``value`` if it is one of ``allowed``, else raise
+    :class:`~glint.errors.InputError` listing the valid choices."""
+    if not isinstance(value, str) or value not in allowed:
+        raise InputError(
+            f"{name} must be one of {', '.join(repr(a) for a in allowed)}; got {value!r}"
+        )
+    return value
+
+
+_PACKAGE_DIR = os.path.dirname(os.path.abspath(__file__))
+
+
+def user_stacklevel() -> int:
+    """Stack level of the first frame outside glint, seen from the caller of
+    this helper, so that warnings point at the user's line."""
+    frame = sys._getframe(1)
+    level = 1
+    while frame is not None and frame.f_code.co_filename.startswith(_PACKAGE_DIR):
+        frame = frame.f_back
+        level += 1
+    return level
+
+
+def warn_outside(value: Any, name: str, low: float, high: float, what: str) -> None:
+    """Issue a :class:`~glint.errors.ValidityWarning` if any finite element of
+    ``value`` lies outside ``[low, high]``, the validity range of ``what``."""
+    arr = np.asarray(value, dtype=float)
+    finite = arr[np.isfinite(arr)]
+    bad = finite[(finite < low) | (finite > high)]
+    if bad.size:
+        warnings.warn(
+            f"{name}={float(bad.flat[0])!r} lies outside [{low:g}, {high:g}], the range "
+            f"of {what}; the result is an extrapolation",
+            ValidityWarning,
+            stacklevel=user_stacklevel(),
+        )

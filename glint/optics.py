@@ -12,15 +12,13 @@ compiled kernel can call or mirror it; the Fresnel formulas live only here.
 
 from __future__ import annotations
 
-import os
-import sys
 import warnings
 from typing import Any, Literal
 
 import numpy as np
 
-from glint._units import as_float_array, check_range
-from glint.errors import InputError, ValidityWarning
+from glint._units import as_float_array, check_choice, check_range, user_stacklevel, warn_outside
+from glint.errors import ValidityWarning
 
 __all__ = [
     "POLARIZATIONS",
@@ -67,41 +65,6 @@ _TANAKA = (-3.983035, 301.797, 522528.9, 69.34881, 999.974950)
 # Edlén (1966) dispersion of standard air (15 °C, 101.325 kPa, 0.03 % CO2):
 # (n - 1) 1e8 = 8342.13 + 2406030 / (130 - s²) + 15997 / (38.9 - s²), s in µm⁻¹.
 _EDLEN = (8342.13, 2406030.0, 130.0, 15997.0, 38.9)
-
-
-_PACKAGE_DIR = os.path.dirname(os.path.abspath(__file__))
-
-
-def _stacklevel() -> int:
-    """Stack level of the first frame outside glint, seen from the caller of
-    this helper, so warnings point at the user's line."""
-    frame = sys._getframe(1)
-    level = 1
-    while frame is not None and frame.f_code.co_filename.startswith(_PACKAGE_DIR):
-        frame = frame.f_back
-        level += 1
-    return level
-
-
-def _choice(value: Any, name: str, allowed: tuple[str, ...]) -> str:
-    if not isinstance(value, str) or value not in allowed:
-        raise InputError(
-            f"{name} must be one of {', '.join(repr(a) for a in allowed)}; got {value!r}"
-        )
-    return value
-
-
-def _warn_outside(value: Any, name: str, low: float, high: float, what: str) -> None:
-    arr = np.asarray(value, dtype=float)
-    finite = arr[np.isfinite(arr)]
-    bad = finite[(finite < low) | (finite > high)]
-    if bad.size:
-        warnings.warn(
-            f"{name}={float(bad.flat[0])!r} lies outside [{low:g}, {high:g}], the range "
-            f"of {what}; the result is an extrapolation",
-            ValidityWarning,
-            stacklevel=_stacklevel(),
-        )
 
 
 def fresnel_amplitudes(cos_incidence: Any, refractive_index: Any) -> tuple[Any, Any]:
@@ -198,7 +161,7 @@ def fresnel_reflectance(
     >>> round(float(fresnel_reflectance(53.1, 1.333, polarization="p")), 5)
     0.0
     """
-    _choice(polarization, "polarization", POLARIZATIONS)
+    check_choice(polarization, "polarization", POLARIZATIONS)
     theta = as_float_array(incidence_angle, "incidence_angle")
     n = as_float_array(refractive_index, "refractive_index")
     check_range(theta, "incidence_angle", 0.0, 90.0, unit="°")
@@ -269,7 +232,7 @@ def water_density(temperature: Any) -> np.ndarray:
     """
     t = as_float_array(temperature, "temperature")
     check_range(t, "temperature", -273.15, None, low_inclusive=False, unit="°C")
-    _warn_outside(t, "temperature", 0.0, 40.0, "Tanaka et al. (2001)")
+    warn_outside(t, "temperature", 0.0, 40.0, "Tanaka et al. (2001)")
     a1, a2, a3, a4, a5 = _TANAKA
     with np.errstate(invalid="ignore", divide="ignore"):
         return a5 * (1.0 - (t + a1) ** 2 * (t + a2) / (a3 * (t + a4)))
@@ -324,7 +287,7 @@ def air_refractive_index(wavelength: Any) -> np.ndarray:
     """
     lam = as_float_array(wavelength, "wavelength")
     check_range(lam, "wavelength", 170.0, None, low_inclusive=False, unit="nm")
-    _warn_outside(lam, "wavelength", 200.0, 2000.0, "Edlén's (1966) dispersion formula")
+    warn_outside(lam, "wavelength", 200.0, 2000.0, "Edlén's (1966) dispersion formula")
     s2 = (1000.0 / lam) ** 2
     c0, c1, p1, c2, p2 = _EDLEN
     return 1.0 + 1e-8 * (c0 + c1 / (p1 - s2) + c2 / (p2 - s2))
@@ -457,8 +420,8 @@ def water_refractive_index(
     >>> round(float(water_refractive_index(589.3, salinity=0.0, method="iapws")), 4)
     1.333
     """
-    _choice(method, "method", REFRACTIVE_INDEX_METHODS)
-    _choice(reference, "reference", REFERENCE_MEDIA)
+    check_choice(method, "method", REFRACTIVE_INDEX_METHODS)
+    check_choice(reference, "reference", REFERENCE_MEDIA)
     lam = as_float_array(wavelength, "wavelength")
     t = as_float_array(temperature, "temperature")
     s = as_float_array(salinity, "salinity")
@@ -467,14 +430,14 @@ def water_refractive_index(
     check_range(t, "temperature", -273.15, None, low_inclusive=False, unit="°C")
     with np.errstate(invalid="ignore", divide="ignore"):
         if method == "quan-fry":
-            _warn_outside(lam, "wavelength", 400.0, 700.0, "Quan and Fry (1995)")
-            _warn_outside(t, "temperature", 0.0, 30.0, "Quan and Fry (1995)")
-            _warn_outside(s, "salinity", 0.0, 35.0, "Quan and Fry (1995)")
+            warn_outside(lam, "wavelength", 400.0, 700.0, "Quan and Fry (1995)")
+            warn_outside(t, "temperature", 0.0, 30.0, "Quan and Fry (1995)")
+            warn_outside(s, "salinity", 0.0, 35.0, "Quan and Fry (1995)")
             n = _quan_fry(lam, t, s)
             if reference == "vacuum":
                 n = n * _air_index_quiet(lam)
         else:
-            _warn_outside(lam, "wavelength", 200.0, 1100.0, "IAPWS R9-97")
+            warn_outside(lam, "wavelength", 200.0, 1100.0, "IAPWS R9-97")
             salty = np.asarray(s)[np.isfinite(s) & (np.asarray(s) != 0.0)]
             if salty.size:
                 warnings.warn(
@@ -482,7 +445,7 @@ def water_refractive_index(
                     "method='iapws' describes pure water (salinity 0); use "
                     "method='quan-fry' for sea water",
                     ValidityWarning,
-                    stacklevel=_stacklevel(),
+                    stacklevel=user_stacklevel(),
                 )
             n = _iapws(lam, t, water_density(t)) + 0.0 * s
             if reference == "air":

@@ -26,7 +26,7 @@ import numpy as np
 from numba import njit, prange
 
 from glint import optics, surface
-from glint._units import as_float_array, broadcast_inputs
+from glint._units import as_float_array, broadcast_inputs, check_choice
 from glint.errors import InputError
 from glint.geometry import facet_geometry
 
@@ -60,14 +60,6 @@ _GC_KEYS = ("c21", "c03", "c40", "c22", "c04")
 # ---------------------------------------------------------------------------
 # reference numpy chain
 # ---------------------------------------------------------------------------
-
-
-def _choice(value: Any, name: str, allowed: tuple[str, ...]) -> str:
-    if not isinstance(value, str) or value not in allowed:
-        raise InputError(
-            f"{name} must be one of {', '.join(repr(a) for a in allowed)}; got {value!r}"
-        )
-    return value
 
 
 def _check_bool(value: Any, name: str) -> bool:
@@ -143,8 +135,8 @@ def _glint(
     shadowing: bool,
     sun_solid_angle: float | None,
 ) -> dict[str, np.ndarray]:
-    _choice(model, "model", surface.SLOPE_MODELS)
-    _choice(distribution, "distribution", surface.SLOPE_DISTRIBUTIONS)
+    check_choice(model, "model", surface.SLOPE_MODELS)
+    check_choice(distribution, "distribution", surface.SLOPE_DISTRIBUTIONS)
     _check_bool(shadowing, "shadowing")
     geom = facet_geometry(sun_zenith, sun_azimuth, view_zenith, view_azimuth)
     shape = geom.zx.shape
@@ -658,8 +650,8 @@ def _kernel_params(
     backend: str,
 ) -> dict[str, Any]:
     """Validate the scalar parameters of :func:`glint_kernel`."""
-    _choice(backend, "backend", KERNEL_BACKENDS)
-    _choice(distribution, "distribution", surface.SLOPE_DISTRIBUTIONS)
+    check_choice(backend, "backend", KERNEL_BACKENDS)
+    check_choice(distribution, "distribution", surface.SLOPE_DISTRIBUTIONS)
     p: dict[str, Any] = {
         "n": _positive_scalar(refractive_index, "refractive_index"),
         "s2c": _positive_scalar(sigma2_crosswind, "sigma2_crosswind"),

@@ -27,15 +27,12 @@ only here.
 from __future__ import annotations
 
 import math
-import os
-import sys
-import warnings
 from typing import Any, Literal
 
 import numpy as np
 
-from glint._units import as_float_array, broadcast_inputs, check_range
-from glint.errors import InputError, ValidityWarning
+from glint._units import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
+from glint.errors import InputError
 
 __all__ = [
     "SLOPE_MODELS",
@@ -127,42 +124,6 @@ _C22 = 0.12
 _C04 = 0.23
 
 
-_PACKAGE_DIR = os.path.dirname(os.path.abspath(__file__))
-
-
-def _stacklevel() -> int:
-    """Stack level of the first frame outside glint, seen from the caller of
-    this helper, so warnings point at the user's line."""
-    frame = sys._getframe(1)
-    level = 1
-    while frame is not None and frame.f_code.co_filename.startswith(_PACKAGE_DIR):
-        frame = frame.f_back
-        level += 1
-    return level
-
-
-def _choice(value: Any, name: str, allowed: tuple[str, ...]) -> str:
-    if not isinstance(value, str) or value not in allowed:
-        raise InputError(
-            f"{name} must be one of {', '.join(repr(a) for a in allowed)}; got {value!r}"
-        )
-    return value
-
-
-def _warn_outside(value: np.ndarray, name: str, low: float, high: float, what: str) -> None:
-    """Issue a ValidityWarning if any finite element lies outside [low, high]."""
-    arr = np.asarray(value, dtype=float)
-    finite = arr[np.isfinite(arr)]
-    bad = finite[(finite < low) | (finite > high)]
-    if bad.size:
-        warnings.warn(
-            f"{name}={float(bad.flat[0])!r} lies outside [{low:g}, {high:g}], the range "
-            f"of {what}; the result is an extrapolation",
-            ValidityWarning,
-            stacklevel=_stacklevel(),
-        )
-
-
 def _wind(wind_speed: Any, name: str = "wind_speed") -> np.ndarray:
     w = as_float_array(wind_speed, name)
     check_range(w, name, 0.0, None, unit="m s⁻¹")
@@ -237,10 +198,10 @@ def slope_variances(
     >>> round(float(c), 4), round(float(u), 4)
     (0.0222, 0.0316)
     """
-    _choice(model, "model", SLOPE_MODELS)
+    check_choice(model, "model", SLOPE_MODELS)
     w = _wind(wind_speed)
     low, high = SLOPE_MODEL_WIND_RANGE[model]
-    _warn_outside(w, "wind_speed", low, high, f"the {model!r} slope model's data")
+    warn_outside(w, "wind_speed", low, high, f"the {model!r} slope model's data")
     if model == "wu":
         with np.errstate(divide="ignore", invalid="ignore"):
             lnw = np.log(w)
@@ -294,7 +255,7 @@ def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
     (-0.29, 0.4)
     """
     w = _wind(wind_speed)
-    _warn_outside(w, "wind_speed", 1.0, 14.0, "Cox and Munk's (1954) data")
+    warn_outside(w, "wind_speed", 1.0, 14.0, "Cox and Munk's (1954) data")
     nan = np.where(np.isnan(w), np.nan, 0.0)
     return {
         "c21": _C21[0] + _C21[1] * w,
@@ -505,8 +466,8 @@ def slope_pdf(
     >>> round(float(p), 2)
     11.28
     """
-    _choice(model, "model", SLOPE_MODELS)
-    _choice(distribution, "distribution", SLOPE_DISTRIBUTIONS)
+    check_choice(model, "model", SLOPE_MODELS)
+    check_choice(distribution, "distribution", SLOPE_DISTRIBUTIONS)
     if wind_direction is None and distribution == "gram-charlier":
         raise InputError(
             "distribution='gram-charlier' needs a wind_direction; got None "
@@ -647,7 +608,7 @@ def whitecap_fraction(
     >>> round(float(whitecap_fraction(10.0)), 5)
     0.00987
     """
-    _choice(method, "method", WHITECAP_METHODS)
+    check_choice(method, "method", WHITECAP_METHODS)
     w = _wind(wind_speed)
     if method == "monahan-ocmuircheartaigh":
         f = 3.84e-6 * w**3.41
