@@ -18,8 +18,9 @@ Variable names, units and CF metadata come from :data:`glint.variables.VARIABLES
 Readers
 -------
 :func:`open_band` returns a lazy, picklable reader of one raster band (for
-inputs such as water masks or per-pixel wind), :func:`read_grid` the grid of
-a raster, and :func:`check_matches_grid` compares a reader with a scene grid.
+inputs such as water masks or per-pixel wind), and :func:`check_matches_grid`
+compares a reader with a scene grid (:meth:`glint.grid.Grid.from_raster` gives
+the grid of a raster).
 """
 
 from __future__ import annotations
@@ -50,7 +51,6 @@ __all__ = [
     "write_dataset_netcdf",
     "RasterBand",
     "open_band",
-    "read_grid",
     "check_matches_grid",
 ]
 
@@ -1016,28 +1016,6 @@ def open_band(path: str | os.PathLike, band: int = 1) -> RasterBand:
         If the file is missing or unreadable, or the band does not exist.
     """
     return RasterBand(path, band)
-
-
-def read_grid(path: str | os.PathLike) -> Grid:
-    """The :class:`Grid` of a raster file (same as :meth:`Grid.from_raster`).
-
-    Parameters
-    ----------
-    path : str or path-like
-        Raster file.
-
-    Returns
-    -------
-    Grid
-
-    Raises
-    ------
-    InputFileError
-        Missing or unreadable file.
-    GridError
-        Raster without CRS or with a rotated transform.
-    """
-    return Grid.from_raster(path)
 
 
 def check_matches_grid(reader: RasterBand, grid: Grid, name: str) -> None:

@@ -24,7 +24,6 @@ from glint.io import (
     check_free_space,
     check_matches_grid,
     open_band,
-    read_grid,
     write_dataset_geotiff,
     write_dataset_netcdf,
 )
@@ -303,7 +302,7 @@ def test_gdal_reads_netcdf_georeferencing(tmp_path, grid, data):
         assert CRS.from_wkt(src.crs.to_wkt()).equals(grid.crs, ignore_axis_order=True)
         assert src.transform.almost_equals(grid.transform, precision=1e-6)
         np.testing.assert_array_equal(src.read(1), data["sun_zenith"])
-    g2 = read_grid(f"netcdf:{path}:sun_zenith")
+    g2 = Grid.from_raster(f"netcdf:{path}:sun_zenith")
     assert g2.shape == grid.shape
 
 
