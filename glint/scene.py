@@ -53,7 +53,7 @@ from glint.errors import GlintError, GridError, InputError, InputFileError, Scen
 from glint.grid import Grid, parse_crs
 from glint.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
 from glint.sensors import Sensor, sensor_from_table
-from glint.sun import to_utc_datetime64
+from glint.sun import parse_time
 from glint.surface import SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
@@ -66,7 +66,6 @@ __all__ = [
     "Scene",
     "load_scene",
     "scene_from_dict",
-    "parse_time",
     "slugify",
     "SECTIONS",
     "OUTPUT_FORMATS",
@@ -480,66 +479,6 @@ def _type_ok(kind: str, value: Any) -> bool:
 # --------------------------------------------------------------------------
 # Times
 # --------------------------------------------------------------------------
-
-
-def parse_time(value: Any, key: str = "time") -> np.datetime64:
-    """Parse one user time into a UTC ``datetime64[ns]``.
-
-    Parameters
-    ----------
-    value : datetime.datetime, str or numpy.datetime64
-        A timezone-aware datetime (as TOML offset date-times load), an ISO
-        8601 text with ``Z`` or an offset such as ``+01:00``, or a
-        ``numpy.datetime64`` (taken as UTC).
-    key : str
-        Name used in error messages (``scene.time``).
-
-    Returns
-    -------
-    numpy.datetime64
-        The time in UTC with nanosecond precision.
-
-    Raises
-    ------
-    InputError
-        If the value has no time zone, no time of day, or cannot be read.
-
-    Examples
-    --------
-    >>> parse_time("2026-06-14T09:42:00+01:00")
-    np.datetime64('2026-06-14T08:42:00.000000000')
-    """
-    text = value
-    if isinstance(value, str):
-        s = value.strip()
-        try:
-            value = _dt.datetime.fromisoformat(s)
-        except ValueError:
-            raise InputError(
-                f"{key}: {text!r} is not an ISO 8601 date-time; write e.g. "
-                "2026-06-14T09:42:00Z or 2026-06-14T10:42:00+01:00") from None
-        if "T" not in s.upper() and " " not in s:
-            raise InputError(f"{key}: {text!r} has no time of day; write e.g. {s}T09:42:00Z")
-    if isinstance(value, _dt.datetime):
-        if value.tzinfo is None or value.tzinfo.utcoffset(value) is None:
-            shown = value.isoformat() if not isinstance(text, str) else text
-            raise InputError(f"{key}: {shown} has no time zone; add Z or an offset like +01:00")
-    elif isinstance(value, _dt.date):
-        raise InputError(f"{key}: {value.isoformat()} has no time of day and no time zone; "
-                         f"write e.g. {value.isoformat()}T09:42:00Z")
-    elif isinstance(value, _dt.time):
-        raise InputError(f"{key}: {value.isoformat()} has no date and no time zone; "
-                         "write e.g. 2026-06-14T09:42:00Z")
-    elif not isinstance(value, np.datetime64):
-        raise InputError(f"{key}: expected a date-time with a time zone, got "
-                         f"{_type_name(value)} {value!r}")
-    try:
-        out = np.asarray(to_utc_datetime64(value)).astype("datetime64[ns]")
-    except InputError as exc:
-        raise InputError(f"{key}: {exc}") from None
-    if out.size != 1 or np.isnat(out.reshape(-1)[0]):
-        raise InputError(f"{key}: {text!r} is not a single valid time")
-    return out.reshape(-1)[0]
 
 
 # --------------------------------------------------------------------------

@@ -40,6 +40,7 @@ __all__ = [
     "solar_position",
     "time_terms",
     "to_utc_datetime64",
+    "parse_time",
     "delta_t",
     "earth_sun_distance",
     "sun_angular_radius",
@@ -358,6 +359,67 @@ def _finest(arr: np.ndarray) -> np.ndarray:
     if np.all(np.abs(v[ok]) < limit):
         return arr.astype("datetime64[ns]")
     return as_us
+
+
+def parse_time(value: Any, key: str | None = "time") -> np.datetime64:
+    """Parse one user time into a UTC ``datetime64[ns]``.
+
+    Parameters
+    ----------
+    value : datetime.datetime, str or numpy.datetime64
+        A timezone-aware datetime (as TOML offset date-times load), an ISO
+        8601 text with ``Z`` or an offset such as ``+01:00``, or a
+        ``numpy.datetime64`` (taken as UTC).
+    key : str or None
+        Name put in front of error messages (``scene.time``); None for none.
+
+    Returns
+    -------
+    numpy.datetime64
+        The time in UTC with nanosecond precision.
+
+    Raises
+    ------
+    InputError
+        If the value has no time zone, no time of day, or cannot be read.
+
+    Examples
+    --------
+    >>> parse_time("2026-06-14T09:42:00+01:00")
+    np.datetime64('2026-06-14T08:42:00.000000000')
+    """
+    text = value
+    pre = f"{key}: " if key else ""
+    if isinstance(value, str):
+        s = value.strip()
+        try:
+            value = _dt.datetime.fromisoformat(s)
+        except ValueError:
+            raise InputError(
+                f"{pre}{text!r} is not an ISO 8601 date-time; write e.g. "
+                "2026-06-14T09:42:00Z or 2026-06-14T10:42:00+01:00") from None
+        if "T" not in s.upper() and " " not in s:
+            raise InputError(f"{pre}{text!r} has no time of day; write e.g. {s}T09:42:00Z")
+    if isinstance(value, _dt.datetime):
+        if value.tzinfo is None or value.tzinfo.utcoffset(value) is None:
+            shown = value.isoformat() if not isinstance(text, str) else text
+            raise InputError(f"{pre}{shown} has no time zone; add Z or an offset like +01:00")
+    elif isinstance(value, _dt.date):
+        raise InputError(f"{pre}{value.isoformat()} has no time of day and no time zone; "
+                         f"write e.g. {value.isoformat()}T09:42:00Z")
+    elif isinstance(value, _dt.time):
+        raise InputError(f"{pre}{value.isoformat()} has no date and no time zone; "
+                         "write e.g. 2026-06-14T09:42:00Z")
+    elif not isinstance(value, np.datetime64):
+        raise InputError(f"{pre}expected a date-time with a time zone, got "
+                         f"{type(value).__name__} {value!r}")
+    try:
+        out = np.asarray(to_utc_datetime64(value)).astype("datetime64[ns]")
+    except InputError as exc:
+        raise InputError(f"{pre}{exc}") from None
+    if out.size != 1 or np.isnat(out.reshape(-1)[0]):
+        raise InputError(f"{pre}{text!r} is not a single valid time")
+    return out.reshape(-1)[0]
 
 
 def to_utc_datetime64(time: Any) -> np.ndarray:

@@ -9,6 +9,8 @@ import math
 from pathlib import Path
 
 import numpy as np
+
+from glint.sun import parse_time
 import pytest
 
 from glint.errors import InputError, InputFileError, SceneError
@@ -19,7 +21,6 @@ from glint.scene import (
     Surface,
     Water,
     load_scene,
-    parse_time,
     scene_from_dict,
     slugify,
 )

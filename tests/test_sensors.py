@@ -188,7 +188,7 @@ def test_table_times(tmp_path):
     s = sensor_from_table({**base, "centre_time": "2026-06-14T11:42:00+02:00"},
                           base_dir=tmp_path, grid=GRID)
     assert s.centre_time == np.datetime64("2026-06-14T09:42:00", "ns")
-    with pytest.raises(SceneError, match="sensor.centre_time: .*no offset"):
+    with pytest.raises(SceneError, match="sensor.centre_time: .*no time zone"):
         sensor_from_table({**base, "centre_time": "2026-06-14T11:42:00"}, base_dir=tmp_path,
                           grid=GRID)
 

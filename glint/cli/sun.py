@@ -8,7 +8,7 @@ import click
 import numpy as np
 
 from glint.cli.map import CAUTION
-from glint.scene import parse_time
+from glint.sun import parse_time
 
 __all__ = ["sun_command"]
 

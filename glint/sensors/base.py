@@ -15,7 +15,6 @@ is negligible.
 
 from __future__ import annotations
 
-import datetime as _dt
 import difflib
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
@@ -26,6 +25,7 @@ import numpy as np
 
 from glint._units import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
 from glint.errors import GlintError, SceneError, SensorError
+from glint.sun import parse_time
 
 __all__ = [
     "GroundPoints",
@@ -47,7 +47,6 @@ __all__ = [
     "heading_vector",
     "GreatCircleTrack",
     "TableReader",
-    "parse_time",
 ]
 
 #: First eccentricity squared of WGS 84.
@@ -610,7 +609,7 @@ class TableReader:
                 self.problem(name, "required key is missing (a time with Z or an offset)")
             return None if default is _MISSING else default
         try:
-            return parse_time(self.table[name])
+            return parse_time(self.table[name], key=None)
         except (GlintError, ValueError) as exc:
             self.problem(name, str(exc))
             return None
@@ -624,35 +623,6 @@ class TableReader:
         x, y = self.grid.xy((rows - 1) / 2.0, (cols - 1) / 2.0)
         lon, lat = self.grid.lonlat(x, y)
         return float(lon), float(lat)
-
-
-def parse_time(value: Any) -> np.datetime64:
-    """One UTC instant from a TOML/``datetime`` value or RFC 3339 text.
-
-    Times must carry ``Z`` or an offset; naive times are refused (through
-    :func:`glint.sun.to_utc_datetime64`).
-
-    Examples
-    --------
-    >>> parse_time("2026-06-14T11:42:00+02:00")
-    np.datetime64('2026-06-14T09:42:00.000000000')
-    """
-    from glint.sun import to_utc_datetime64
-
-    if isinstance(value, str):
-        text = value.strip()
-        try:
-            value = _dt.datetime.fromisoformat(text)
-        except ValueError as exc:
-            raise SensorError(
-                f"cannot read {text!r} as a time; write RFC 3339 with an offset, "
-                "e.g. '2026-06-14T09:42:00Z'") from exc
-        if value.tzinfo is None:
-            raise SensorError(f"time {text!r} has no offset; add Z (UTC) or +hh:mm")
-    t = to_utc_datetime64(value)
-    if np.ndim(t) != 0:
-        raise SensorError(f"expected a single time; got {value!r}")
-    return np.datetime64(t[()], "ns")
 
 
 @dataclass(frozen=True)
