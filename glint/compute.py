@@ -26,6 +26,7 @@ import logging
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
 
+import numba
 import numpy as np
 
 from glint import grid as _grid
@@ -53,8 +54,9 @@ log = logging.getLogger(__name__)
 
 #: Node spacings tried, coarsest first [pixels].
 _NODE_STEPS = (64, 32, 16, 8, 4, 2)
-#: Cells of the lattice checked against exact values when choosing a spacing.
-_CHECK_CELLS = 24
+#: Rows (and columns) of lattice cells whose centres are checked against exact
+#: values when choosing a spacing: every cell of lattices up to this size.
+_CHECK_CELLS = 400
 
 _KERNEL_OUTPUTS = ("glint_angle", "glint_reflectance", "glint_radiance", "glint_fraction")
 
@@ -168,10 +170,10 @@ def _max_direction_error(approx: dict, exact: dict) -> float:
 def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> GeometryPlan:
     """Choose the node spacing for one scene time (see module docstring).
 
-    For each spacing, coarsest first, the angles at the centres of up to
-    ``_CHECK_CELLS`` lattice cells spread over the grid (the points farthest
-    from any node) are computed exactly and compared with their
-    interpolation. The first spacing whose largest error is within
+    For each spacing, coarsest first, the angles at the centres of the
+    lattice cells (the points farthest from any node; every cell, or 400 x 400
+    evenly spread cells on larger lattices) are computed exactly and compared
+    with their interpolation. The first spacing whose largest error is within
     ``scene.tie_point_tolerance`` is kept.
     """
     g = scene.grid
@@ -185,7 +187,8 @@ def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> Geometr
             continue
         nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
         nodes = _exact_angles(scene, time, nr, nc, views=smooth)
-        # Cell centres spread over the lattice.
+        # Centres of every lattice cell (of evenly spread rows and columns of
+        # cells on very large lattices).
         ci = np.unique(np.linspace(0, len(node_rows) - 2, min(_CHECK_CELLS, len(node_rows) - 1)).round().astype(int))
         cj = np.unique(np.linspace(0, len(node_cols) - 2, min(_CHECK_CELLS, len(node_cols) - 1)).round().astype(int))
         mr = 0.5 * (node_rows[ci] + node_rows[ci + 1])
@@ -202,15 +205,33 @@ def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> Geometr
 
 
 def classify(values: np.ndarray, thresholds: Sequence[float]) -> np.ndarray:
-    """Glint class per pixel: index of the first threshold above the value.
+    """Glint class per pixel: the number of thresholds at or below the value.
 
     Class ``k`` holds ``thresholds[k-1] <= value < thresholds[k]``; NaN gets
     :data:`~glint.variables.CLASS_NODATA`.
+
+    Examples
+    --------
+    >>> classify(np.array([np.nan, 0.0, 1e-3, 1.0]), (1e-4, 5e-3))
+    array([255,   0,   1,   2], dtype=uint8)
     """
     v = np.asarray(values)
-    cls = np.digitize(v, np.asarray(thresholds, dtype=float), right=False).astype(np.uint8)
-    cls[~np.isfinite(v)] = CLASS_NODATA
-    return cls
+    out = np.empty(v.shape, dtype=np.uint8)
+    _classify_loop(v.reshape(-1), np.asarray(thresholds, dtype=np.float64), out.reshape(-1))
+    return out
+
+
+@numba.njit(parallel=True, cache=True)
+def _classify_loop(v, thresholds, out):  # pragma: no cover - compiled
+    for i in numba.prange(v.size):
+        x = v[i]
+        if not np.isfinite(x):
+            out[i] = CLASS_NODATA
+            continue
+        k = 0
+        while k < thresholds.size and x >= thresholds[k]:
+            k += 1
+        out[i] = k
 
 
 def compute_window(

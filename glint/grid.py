@@ -881,6 +881,7 @@ def _lattice_weights(
 
 @numba.njit(parallel=True, cache=True)
 def _bilinear_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
+    """One pass of bilinear interpolation over the output."""
     for i in numba.prange(ir.size):
         r0 = ir[i]
         t = tr[i]
@@ -892,22 +893,28 @@ def _bilinear_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
             out[i, j] = top * (1.0 - t) + bottom * t
 
 
+@numba.njit(inline="always")
+def _near(a, ref):  # pragma: no cover - compiled
+    """``a`` shifted by a multiple of 360 into [ref - 180, ref + 180)."""
+    return a - 360.0 * math.floor((a - ref + 180.0) / 360.0)
+
+
 @numba.njit(parallel=True, cache=True)
-def _bilinear_azimuth_loop(sv, cv, ir, tr, ic, tc, out):  # pragma: no cover - compiled
-    to_deg = 180.0 / math.pi
+def _bilinear_azimuth_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
+    """Bilinear interpolation of azimuths: the four corners of each cell are
+    taken within 180° of its first corner, interpolated, folded to [0, 360)."""
     for i in numba.prange(ir.size):
         r0 = ir[i]
         t = tr[i]
         for j in range(ic.size):
             c0 = ic[j]
             u = tc[j]
-            s = ((sv[r0, c0] * (1.0 - u) + sv[r0, c0 + 1] * u) * (1.0 - t)
-                 + (sv[r0 + 1, c0] * (1.0 - u) + sv[r0 + 1, c0 + 1] * u) * t)
-            c = ((cv[r0, c0] * (1.0 - u) + cv[r0, c0 + 1] * u) * (1.0 - t)
-                 + (cv[r0 + 1, c0] * (1.0 - u) + cv[r0 + 1, c0 + 1] * u) * t)
-            a = math.atan2(s, c) * to_deg
-            if a < 0.0:
-                a += 360.0
+            a00 = v[r0, c0]
+            a01 = _near(v[r0, c0 + 1], a00)
+            a10 = _near(v[r0 + 1, c0], a00)
+            a11 = _near(v[r0 + 1, c0 + 1], a00)
+            a = (a00 * (1.0 - u) + a01 * u) * (1.0 - t) + (a10 * (1.0 - u) + a11 * u) * t
+            a = a - 360.0 * math.floor(a / 360.0)
             if a >= 360.0:
                 a -= 360.0
             out[i, j] = a
@@ -967,11 +974,20 @@ def interpolate_nodes(
 def interpolate_azimuth_nodes(
     azimuth_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any, *, dtype: Any = np.float64
 ) -> np.ndarray:
-    """Bilinear interpolation of azimuths [°] through their sine and cosine.
+    """Bilinear interpolation of azimuths [°] across north without a jump.
 
-    Same arguments as :func:`interpolate_nodes`. Returns azimuths in
-    [0, 360) with no jump where the nodes cross north (350° and 10° average
-    to 0°, not 180°).
+    Same arguments as :func:`interpolate_nodes`. In each lattice cell the
+    corner azimuths are taken within 180° of the cell's first corner,
+    interpolated bilinearly and folded back into [0, 360): 350° and 10°
+    average to 0°, not 180°.
+
+    Notes
+    -----
+    For a smooth azimuth field this is bilinear interpolation of the angle
+    itself. Where the field turns by 180° or more across one cell (around the
+    nadir of a low sensor, or the sun near the zenith) the result is wrong;
+    callers check interpolated angles against exact values (as
+    :func:`glint.compute.plan_geometry` does) and refine the lattice.
 
     Examples
     --------
@@ -979,9 +995,8 @@ def interpolate_azimuth_nodes(
     >>> float(interpolate_azimuth_nodes(a, [0], [0, 2], [0], [1])[0, 0]) % 360 < 1e-9
     True
     """
-    a = np.radians(np.asarray(azimuth_at_nodes, dtype=float))
-    sv, ir, tr, ic, tc = _lattice_weights(np.sin(a), node_rows, node_cols, rows, cols)
-    cv = _lattice_weights(np.cos(a), node_rows, node_cols, rows, cols)[0]
+    a = np.asarray(azimuth_at_nodes, dtype=float)
+    v, ir, tr, ic, tc = _lattice_weights(a, node_rows, node_cols, rows, cols)
     out = np.empty((ir.size, ic.size), dtype=dtype)
-    _bilinear_azimuth_loop(sv, cv, ir, tr, ic, tc, out)
+    _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
     return out

@@ -275,6 +275,10 @@ class GeoTiffWriter:
         values are converted with ``str``.
     num_threads : str or int, optional
         GDAL compression threads, default ``"ALL_CPUS"``.
+    cache_mb : int, optional
+        GDAL block cache while the file is open [MB], default 256: full
+        strips are compressed and flushed as they arrive, so memory stays
+        bounded whatever the grid size.
 
     Raises
     ------
@@ -315,6 +319,7 @@ class GeoTiffWriter:
         overwrite: bool = False,
         tags: Mapping[str, Any] | None = None,
         num_threads: str | int = "ALL_CPUS",
+        cache_mb: int = 256,
     ) -> None:
         self.path = Path(path)
         self.grid = grid
@@ -358,6 +363,8 @@ class GeoTiffWriter:
         self.overwrite = overwrite
         self.tags = {str(k): str(v) for k, v in (tags or {}).items()}
         self.num_threads = str(num_threads)
+        self.cache_mb = int(cache_mb)
+        self._env: Any = None
         self._dst: Any = None
         self._files: list[_AtomicFile] = []
 
@@ -413,6 +420,10 @@ class GeoTiffWriter:
                 profile.update(compress="ZSTD", zstd_level=1)
                 profile.pop("zlevel", None)
                 profile.pop("max_z_error", None)
+            # A bounded GDAL block cache: full strips are compressed and
+            # flushed as they come instead of piling up until close().
+            self._env = rasterio.Env(GDAL_CACHEMAX=self.cache_mb, GDAL_NUM_THREADS=self.num_threads)
+            self._env.__enter__()
             self._dst = rasterio.open(work.tmp, "w", **profile)
             self._work = work
             self._describe()
@@ -488,7 +499,14 @@ class GeoTiffWriter:
         except BaseException:
             self.abort()
             raise
+        finally:
+            self._leave_env()
         log.info("wrote %s", self.path)
+
+    def _leave_env(self) -> None:
+        if self._env is not None:
+            env, self._env = self._env, None
+            env.__exit__(None, None, None)
 
     def abort(self) -> None:
         """Close and delete every temporary file; the output is not created."""
@@ -498,6 +516,7 @@ class GeoTiffWriter:
             self._dst = None
         for f in self._files:
             f.discard()
+        self._leave_env()
 
     def __enter__(self) -> GeoTiffWriter:
         return self.open()

@@ -205,8 +205,7 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
             refl = block["glint_reflectance"]
             if np.any(np.isfinite(refl)):
                 max_refl = max(max_refl, float(np.nanmax(refl)))
-            cls = block["glint_class"]
-            class_counts += np.bincount(cls[cls != CLASS_NODATA].ravel(), minlength=n_classes)[:n_classes]
+            class_counts += np.bincount(block["glint_class"].ravel(), minlength=CLASS_NODATA + 1)[:n_classes]
             unseen += int(np.count_nonzero(~np.isfinite(block["view_zenith"])))
             if png_tmp is not None:
                 first = (-rs.start) % step
