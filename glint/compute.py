@@ -46,6 +46,7 @@ __all__ = [
     "compute_window",
     "iter_blocks",
     "compute_dataset",
+    "compute_points",
     "classify",
     "scene_center_summary",
 ]
@@ -116,17 +117,18 @@ def kernel_parameters(scene, time) -> KernelParameters:
     )
 
 
+def _sun(scene, time, lat, lon):
+    """Exact sun position with the scene's sun options."""
+    o = scene.sun
+    return solar_position(time, lat, lon, elevation=o.surface_elevation, pressure=o.pressure,
+                          temperature=o.air_temperature, delta_t=o.delta_t, refraction=o.refraction)
+
+
 def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: bool = True) -> dict:
     """Sun (and view) angles computed exactly at pixel indices."""
     pts = GroundPoints.from_pixels(scene.grid, rows, cols)
     va = scene.sensor.view_angles(pts, time)
-    t = time if va.time is None else va.time
-    opts = scene.sun
-    sp = solar_position(
-        t, pts.lat, pts.lon,
-        elevation=opts.surface_elevation, pressure=opts.pressure,
-        temperature=opts.air_temperature, delta_t=opts.delta_t, refraction=opts.refraction,
-    )
+    sp = _sun(scene, time if va.time is None else va.time, pts.lat, pts.lon)
     out = {"sun_zenith": np.asarray(sp.zenith, float), "sun_azimuth": np.asarray(sp.azimuth, float)}
     if views:
         out["view_zenith"] = np.asarray(va.view_zenith, float)
@@ -266,18 +268,18 @@ def compute_window(
                 # the sun is evaluated exactly where the pixel is seen.
                 seen = np.isfinite(ang["view_zenith"])
                 if np.any(seen):
-                    sp = solar_position(
-                        np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen],
-                        elevation=scene.sun.surface_elevation, pressure=scene.sun.pressure,
-                        temperature=scene.sun.air_temperature, delta_t=scene.sun.delta_t,
-                        refraction=scene.sun.refraction,
-                    )
+                    sp = _sun(scene, np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen])
                     ang["sun_zenith"][seen] = sp.zenith
                     ang["sun_azimuth"][seen] = sp.azimuth
     else:
         ang = _exact_angles(scene, plan.time, rr, cc)
 
     f32 = {k: np.ascontiguousarray(v, dtype=np.float32) for k, v in ang.items()}
+    return _kernel_outputs(f32, params, scene.classes, variables)
+
+
+def _kernel_outputs(f32: dict, params: KernelParameters, classes, variables: Sequence[str]) -> dict:
+    """Run the fused kernel on float32 angle arrays and pick the variables."""
     out = glint_kernel(
         f32["sun_zenith"], f32["sun_azimuth"], f32["view_zenith"], f32["view_azimuth"],
         refractive_index=params.refractive_index,
@@ -296,7 +298,7 @@ def compute_window(
         elif name in out:
             result[name] = out[name]
         elif name == "glint_class":
-            result[name] = classify(out[scene.classes.variable], scene.classes.thresholds)
+            result[name] = classify(out[classes.variable], classes.thresholds)
         else:  # pragma: no cover - guarded by _check_variables
             raise InputError(f"unknown variable {name!r}")
     return result
@@ -460,6 +462,52 @@ def _lazy_arrays(scene, plan, params, variables, chunks) -> dict:
             classify, src, scene.classes.thresholds, dtype=np.uint8, name="glint-class"
         )
     return out
+
+
+def compute_points(
+    scene,
+    time,
+    lon: np.ndarray,
+    lat: np.ndarray,
+    view_zenith: np.ndarray,
+    view_azimuth: np.ndarray,
+    variables: Sequence[str] | None = None,
+) -> dict[str, np.ndarray]:
+    """Glint variables at arbitrary ground points (not on the scene grid).
+
+    Used for maps in a camera's own image coordinates. The sun is computed
+    exactly at each point (no tie points); the kernel and classes are those
+    of :func:`compute_window`.
+
+    Parameters
+    ----------
+    scene : glint.scene.Scene
+        Supplies the surface, water, sun options and class thresholds.
+    time : datetime-like
+        Scene time (UTC).
+    lon, lat : array_like
+        Ground points [°]; NaN where nothing is seen.
+    view_zenith, view_azimuth : array_like
+        Direction from each point to the sensor [°], true north.
+    variables : sequence of str, optional
+        Names from :data:`glint.variables.VARIABLES` (default: all).
+
+    Returns
+    -------
+    dict of numpy.ndarray
+        float32 arrays (uint8 for ``glint_class``) of the points' shape.
+    """
+    variables = _check_variables(variables)
+    t = np.datetime64(time, "ns")
+    lon, lat, vz, va = np.broadcast_arrays(*(np.asarray(a, float) for a in (lon, lat, view_zenith, view_azimuth)))
+    sp = _sun(scene, t, lat, lon)
+    ang = {
+        "sun_zenith": np.ascontiguousarray(sp.zenith, dtype=np.float32),
+        "sun_azimuth": np.ascontiguousarray(sp.azimuth, dtype=np.float32),
+        "view_zenith": np.ascontiguousarray(vz, dtype=np.float32),
+        "view_azimuth": np.ascontiguousarray(va, dtype=np.float32),
+    }
+    return _kernel_outputs(ang, kernel_parameters(scene, t), scene.classes, variables)
 
 
 def scene_center_summary(scene, time) -> dict:

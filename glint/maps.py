@@ -20,7 +20,7 @@ from glint import compute, io, plot
 from glint.errors import InputError, OutputError
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem"]
+__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem", "prepare_outdir"]
 
 log = logging.getLogger(__name__)
 
@@ -117,7 +117,7 @@ def write_maps(
         raise InputError(f"unknown variable(s) {unknown!r}; allowed: {', '.join(VARIABLES)}")
     cog = scene.outputs.cog if cog is None else bool(cog)
     outdir = Path(outdir)
-    _prepare_outdir(outdir)
+    prepare_outdir(outdir)
 
     float_vars = [v for v in variables if VARIABLES[v].dtype != "uint8"]
     class_var = "glint_class" in variables
@@ -144,7 +144,8 @@ def write_maps(
     return result
 
 
-def _prepare_outdir(outdir: Path) -> None:
+def prepare_outdir(outdir: Path) -> None:
+    """Create the output directory (not its parents); OutputError if impossible."""
     if outdir.exists() and not outdir.is_dir():
         raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
     try:

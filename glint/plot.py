@@ -31,6 +31,8 @@ def quicklook(
     cmap: str = "magma",
     vmax: float | None = None,
     subtitle: str = "",
+    xlabel: str | None = None,
+    ylabel: str | None = None,
 ) -> Path:
     """Write a PNG map of ``values`` with a colour bar and axis coordinates.
 
@@ -46,6 +48,8 @@ def quicklook(
         Figure title and colour-bar label.
     axis_units : str
         Unit of the CRS axes, shown in the axis labels.
+    xlabel, ylabel : str, optional
+        Axis labels; default ``x [unit]`` and ``y [unit]``.
     vmax : float, optional
         Top of the colour scale; default the 99.5th percentile of finite
         values (so one hot pixel does not flatten the map).
@@ -72,8 +76,8 @@ def quicklook(
     cb = fig.colorbar(im, ax=ax, shrink=0.85, extend="max")
     cb.set_label(label)
     ax.ticklabel_format(useOffset=False, style="plain")
-    ax.set_xlabel(f"x [{unit}]")
-    ax.set_ylabel(f"y [{unit}]")
+    ax.set_xlabel(xlabel or f"x [{unit}]")
+    ax.set_ylabel(ylabel or f"y [{unit}]")
     ax.set_title(title + (f"\n{subtitle}" if subtitle else ""), fontsize=10)
     fig.text(0.01, 0.005, CAUTION, fontsize=7, color="#555555", ha="left", va="bottom")
     fig.savefig(path, format="png")

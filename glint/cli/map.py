@@ -50,7 +50,8 @@ def format_summary(summary: dict[str, Any]) -> list[str]:
         lines.append("Summary:")
     if "sun_zenith" in summary and "sun_azimuth" in summary:
         lines.append(f"  sun zenith {float(summary['sun_zenith']):.2f} deg, azimuth "
-                     f"{float(summary['sun_azimuth']):.2f} deg (grid centre)")
+                     f"{float(summary['sun_azimuth']):.2f} deg "
+                     f"({summary.get('sun_at', 'grid centre')})")
     if "max_glint_reflectance" in summary:
         lines.append(f"  largest glint reflectance factor: "
                      f"{_fmt(float(summary['max_glint_reflectance']))}")
@@ -60,8 +61,10 @@ def format_summary(summary: dict[str, Any]) -> list[str]:
         lines.append(f"  glint classes (share of seen pixels): {parts}")
     if "unseen_pixels" in summary:
         lines.append(f"  pixels the sensor does not see: {int(summary['unseen_pixels'])}")
-    known = {"time", "sun_zenith", "sun_azimuth", "max_glint_reflectance", "class_shares",
-             "unseen_pixels"}
+    if "footprint" in summary:
+        lines.append(f"  footprint {summary['footprint']}")
+    known = {"time", "sun_zenith", "sun_azimuth", "sun_at", "max_glint_reflectance",
+             "class_shares", "unseen_pixels", "footprint"}
     for key, value in summary.items():
         if key not in known:
             log.info("%s: %s", key.replace("_", " "), _fmt(value))

@@ -1,0 +1,73 @@
+"""``glint camera-view``: glint as a drone or fixed camera will see it."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import Any
+
+import click
+
+from glint.cli.map import CAUTION, format_summary
+from glint.scene import load_scene
+
+__all__ = ["camera_view_command", "FLIGHT_CAUTION"]
+
+#: Printed after every camera-view run.
+FLIGHT_CAUTION = ("Fly only where and when local aviation rules allow, under licensed practice; "
+                  "a glint forecast is no flight clearance.")
+
+_EPILOG = """\b
+Examples:
+  glint camera-view example_scenes/drone_cove_survey.toml -o out
+  glint camera-view scene.toml -o out --time 2026-06-14T07:30:00Z --overwrite
+  glint camera-view scene.toml -o out --step 4
+
+\b
+Exit codes: 0 success, 2 invalid scene or input (or a sensor that is not a
+camera), 1 outputs could not be written.
+"""
+
+
+@click.command("camera-view", epilog=_EPILOG)
+@click.argument("scene_file", metavar="SCENE.toml",
+                type=click.Path(exists=True, dir_okay=False, path_type=Path))
+@click.option("-o", "--output", "outdir", default="glint-output", show_default=True,
+              type=click.Path(file_okay=False, path_type=Path),
+              help="Output directory (created if its parent exists).")
+@click.option("--step", type=click.IntRange(min=1), default=1, show_default=True,
+              help="Compute every STEP-th image pixel in both directions.")
+@click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@click.option("--wind-speed", type=float, metavar="M/S",
+              help="Override surface.wind_speed [m/s at surface.wind_height].")
+@click.option("--wind-direction", type=float, metavar="DEG",
+              help="Override surface.wind_direction [deg, direction the wind blows from].")
+@click.option("--time", "times", multiple=True, metavar="TIME",
+              help="Override the scene time(s): ISO 8601 with Z or an offset (repeatable).")
+def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bool,
+                        wind_speed: float | None, wind_direction: float | None,
+                        times: tuple[str, ...]) -> None:
+    """Map glint in the image coordinates of the scene's camera.
+
+    For a scene whose [sensor] is a frame camera (drone) or a fixed camera,
+    writes per scene time a PNG of glint reflectance as the photo will show
+    it, a NetCDF of every variable in image coordinates (with the lon/lat of
+    each pixel's ground point) and a GeoJSON of the image's ground footprint.
+    """
+    from glint.camera_view import write_camera_view
+    from glint.maps import prepare_outdir
+
+    time_override: Any = None
+    if times:
+        time_override = list(times) if len(times) > 1 else times[0]
+    scene = load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
+                       time=time_override)
+    prepare_outdir(outdir)
+    result = write_camera_view(scene, outdir, step=step, overwrite=overwrite)
+    click.echo(f"Wrote {len(result.files)} file(s):")
+    for path in result.files:
+        click.echo(f"  {path}")
+    for summary in result.summaries:
+        for line in format_summary(summary):
+            click.echo(line)
+    click.echo(CAUTION)
+    click.echo(FLIGHT_CAUTION)

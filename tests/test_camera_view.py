@@ -1,0 +1,109 @@
+"""Tests of glint.camera_view and ``glint camera-view``: glint in a camera's
+own image coordinates. Checks use plain geometry (common practice) and the
+grid-map path of the same scene."""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+import netCDF4
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from glint import camera_view as cv
+from glint.cli.main import cli
+from glint.errors import SensorError
+from glint.scene import load_scene, scene_from_dict
+from glint.variables import CLASS_NODATA
+
+EXAMPLES = Path(__file__).resolve().parents[1] / "example_scenes"
+
+
+def _camera_scene(tmp_path, **camera):
+    sensor = {"kind": "frame-camera", "lon": -4.2, "lat": 50.3, "altitude": 80.0,
+              "horizontal_fov": 70.0, "vertical_fov": 50.0, "image_size": [160, 120],
+              "heading": 200.0, "pitch": -90.0, "roll": 0.0}
+    sensor.update(camera)
+    data = {
+        "scene": {"name": "Test frame", "time": "2026-06-14T11:00:00Z"},
+        "grid": {"west": -4.2015, "south": 50.299, "east": -4.1985, "north": 50.301, "resolution": 2.0},
+        "sensor": sensor,
+        "surface": {"wind_speed": 4.0, "wind_direction": 250.0},
+    }
+    return scene_from_dict(data, base_dir=tmp_path)
+
+
+def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path):
+    """Plain geometry: looking straight down, the glint angle is the sun's
+    zenith angle (the mirror direction of the sun is at the sun zenith)."""
+    scene = _camera_scene(tmp_path)
+    ds = cv.camera_view(scene)
+    assert ds.glint_angle.shape == (120, 160)
+    r, c = 60, 80  # the image centre (pixel centres at whole numbers)
+    assert float(ds.view_zenith[r, c]) < 0.5
+    assert float(ds.glint_angle[r, c]) == pytest.approx(float(ds.sun_zenith[r, c]), abs=0.5)
+    assert ds.attrs["unseen_pixels"] == 0
+
+
+def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path):
+    """Two paths to the same physics: the camera-image value at a pixel equals
+    the kernel at that pixel's ground point with the sensor's view angles."""
+    from glint import compute
+    from glint.sensors import GroundPoints
+
+    scene = _camera_scene(tmp_path, pitch=-70.0)
+    ds = cv.camera_view(scene, step=8)
+    lon, lat = ds.lon.values, ds.lat.values
+    pts = GroundPoints.from_lonlat(lon, lat, scene.grid)
+    va = scene.sensor.view_angles(pts, scene.times[0])
+    ok = np.isfinite(va.view_zenith)
+    assert ok.sum() > 50
+    ref = compute.compute_points(scene, scene.times[0], lon, lat, va.view_zenith, va.view_azimuth,
+                                 ["glint_reflectance"])["glint_reflectance"]
+    np.testing.assert_allclose(ds.glint_reflectance.values[ok], ref[ok], rtol=1e-3, atol=1e-6)
+
+
+def test_pixels_above_horizon_are_empty_and_counted(tmp_path):
+    scene = _camera_scene(tmp_path, pitch=-10.0)  # the top of the image shows sky
+    ds = cv.camera_view(scene, step=4)
+    cls = ds.glint_class.values
+    assert ds.attrs["unseen_pixels"] == int(np.sum(cls == CLASS_NODATA)) > 0
+    assert np.all(np.isnan(ds.glint_reflectance.values[cls == CLASS_NODATA]))
+    res = cv.write_camera_view(scene, tmp_path / "out", step=4)
+    assert "not written" in res.summaries[0]["footprint"]
+    assert not any(p.suffix == ".geojson" for p in res.files)
+
+
+def test_write_camera_view_files(tmp_path):
+    scene = load_scene(EXAMPLES / "drone_cove_survey.toml")
+    res = cv.write_camera_view(scene, tmp_path, step=20)
+    assert sorted(p.suffix for p in res.files) == [".geojson", ".nc", ".png"]
+    assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")], "temporary files left"
+    gj = json.loads(next(p for p in res.files if p.suffix == ".geojson").read_text())
+    ring = gj["features"][0]["geometry"]["coordinates"][0]
+    assert len(ring) == 5 and ring[0] == ring[-1]
+    with netCDF4.Dataset(next(p for p in res.files if p.suffix == ".nc")) as f:
+        assert f["lat"].standard_name == "latitude"
+        assert f["glint_fraction"].shape == f["lon"].shape
+    with pytest.raises(Exception, match="exists"):
+        cv.write_camera_view(scene, tmp_path, step=20)
+
+
+def test_non_camera_sensor_refused(tmp_path):
+    scene = load_scene(EXAMPLES / "open_sea_tile.toml")
+    with pytest.raises(SensorError, match="frame-camera"):
+        cv.camera_view(scene)
+    r = CliRunner().invoke(cli, ["camera-view", str(EXAMPLES / "open_sea_tile.toml"), "-o", str(tmp_path)])
+    assert r.exit_code == 2
+    assert "Error:" in r.output and "frame-camera" in r.output
+
+
+def test_cli_camera_view_prints_cautions(tmp_path):
+    r = CliRunner().invoke(cli, ["camera-view", str(EXAMPLES / "drone_cove_survey.toml"),
+                                 "-o", str(tmp_path / "o"), "--step", "25"])
+    assert r.exit_code == 0, r.output
+    assert "never look at the sun" in r.output
+    assert "local aviation rules" in r.output
+    assert "below the camera" in r.output
