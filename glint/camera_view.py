@@ -164,6 +164,12 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
             with io.atomic_path(paths["footprint"], overwrite=overwrite) as tmp:
                 Path(tmp).write_text(json.dumps({"type": "FeatureCollection", "features": [feature]}))
             result.files.append(paths["footprint"])
+        try:
+            gsd = cam.ground_sampling_distance()
+        except SensorError:
+            pass  # the image centre looks at or above the horizon
+        else:
+            summary["ground_sampling_distance"] = f"{gsd[0]:.3g} m x {gsd[1]:.3g} m at the image centre"
         result.summaries.append(summary)
     return result
 

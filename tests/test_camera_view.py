@@ -107,3 +107,4 @@ def test_cli_camera_view_prints_cautions(tmp_path):
     assert "never look at the sun" in r.output
     assert "local aviation rules" in r.output
     assert "below the camera" in r.output
+    assert "ground sampling distance" in r.output

@@ -63,8 +63,10 @@ def format_summary(summary: dict[str, Any]) -> list[str]:
         lines.append(f"  pixels the sensor does not see: {int(summary['unseen_pixels'])}")
     if "footprint" in summary:
         lines.append(f"  footprint {summary['footprint']}")
+    if "ground_sampling_distance" in summary:
+        lines.append(f"  ground sampling distance: {summary['ground_sampling_distance']}")
     known = {"time", "sun_zenith", "sun_azimuth", "sun_at", "max_glint_reflectance",
-             "class_shares", "unseen_pixels", "footprint"}
+             "class_shares", "unseen_pixels", "footprint", "ground_sampling_distance"}
     for key, value in summary.items():
         if key not in known:
             log.info("%s: %s", key.replace("_", " "), _fmt(value))
