@@ -533,7 +533,7 @@ def wind_speed_at_height(
     Neutral surface layer (Stull 1988, ch. 9):
     :math:`U(z_2) = U(z_1) \\ln(z_2/z_0) / \\ln(z_1/z_0)`. Stability and
     wave-dependent roughness are ignored. For example a 12.5 m wind is about
-    2.5 % faster than the 10 m wind.
+    2 % faster than the 10 m wind.
 
     References
     ----------
