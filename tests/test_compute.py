@@ -76,6 +76,27 @@ def test_direction_error_against_vector_angle(rng):
     np.testing.assert_allclose(compute.direction_error(z1, a1, z2, a2), ref, atol=1e-6)
 
 
+def test_nadir_inside_grid_is_caught(tmp_path):
+    """A satellite-like nadir point inside a large grid: the view azimuth is
+    singular at the nadir, so the check must look there. Every pixel of the
+    result stays within the tolerance of the exact angles."""
+    far = {"kind": "nadir-point", "altitude": 700000.0, "lon": -7.9, "lat": 37.03}
+    scene = _scene(tmp_path, far, size=(8000.0, 6000.0), res=10.0)
+    plan = compute.plan_geometry(scene, scene.times[0])
+    params = compute.kernel_parameters(scene, scene.times[0])
+    exact_plan = _exact_plan(scene)
+    names = ("view_zenith", "view_azimuth")
+    worst = 0.0
+    for r0 in range(0, scene.grid.height, 100):
+        rs = slice(r0, min(r0 + 100, scene.grid.height))
+        a = compute.compute_window(scene, plan, params, rs, None, names)
+        b = compute.compute_window(scene, exact_plan, params, rs, None, names)
+        d = compute.direction_error(a["view_zenith"].astype(float), a["view_azimuth"].astype(float),
+                                    b["view_zenith"].astype(float), b["view_azimuth"].astype(float))
+        worst = max(worst, float(np.nanmax(d)))
+    assert worst <= scene.tie_point_tolerance + 3e-5
+
+
 def test_low_sensor_near_nadir_is_computed_exactly(tmp_path):
     """An aircraft 2.5 km up, above the tile: the view direction turns too fast
     near nadir for tie points to meet 1e-4 deg, so every pixel is exact."""
@@ -199,6 +220,22 @@ def test_unknown_variable_named(tmp_path):
     scene = _scene(tmp_path)
     with pytest.raises(InputError, match="glint_brightness"):
         compute.compute_dataset(scene, variables=["glint_brightness"])
+
+
+@pytest.mark.filterwarnings("ignore::glint.errors.ValidityWarning")
+def test_calm_water_matches_reference_function(tmp_path):
+    """Zero wind: the kernel path agrees with glint.reflect's reference
+    function, which floors the slope variances (calm water stays finite)."""
+    scene = _scene(tmp_path, {"kind": "fixed-direction", "view_zenith": 20.0, "view_azimuth": 300.0},
+                   surface={"wind_speed": 0.0})
+    ds = compute.compute_dataset(scene)
+    ref = glint_reflectance(
+        ds.sun_zenith.values.astype(float), ds.sun_azimuth.values.astype(float),
+        ds.view_zenith.values.astype(float), ds.view_azimuth.values.astype(float),
+        0.0, wind_direction=260.0, refractive_index=compute.kernel_parameters(scene, scene.times[0]).refractive_index,
+    )
+    assert np.all(np.isfinite(ds.glint_reflectance.values))
+    np.testing.assert_allclose(ds.glint_reflectance.values, ref, rtol=2e-4, atol=1e-30)
 
 
 def test_sun_below_horizon_gives_zero_glint(tmp_path):
