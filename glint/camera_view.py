@@ -22,7 +22,7 @@ import numpy as np
 from glint import compute, io, plot
 from glint.errors import OutputError, SensorError
 from glint.sensors import FrameCamera, camera_image_geometry
-from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
+from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES
 
 __all__ = ["CameraViewResult", "camera_view", "write_camera_view"]
 
@@ -78,19 +78,13 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
     t = scene.times[0] if time is None else np.datetime64(time, "ns")
     geo = camera_image_geometry(cam, step=step)
     names = tuple(variables or DEFAULT_VARIABLES)
-    res = compute.compute_points(scene, t, geo.lon, geo.lat, geo.view_zenith, geo.view_azimuth, names)
+    params = compute.kernel_parameters(scene, t)
+    res = compute.compute_points(scene, t, geo.lon, geo.lat, geo.view_zenith, geo.view_azimuth, names, params)
     rows = np.arange(0, cam.rows, step)
     cols = np.arange(0, cam.cols, step)
     data = {}
     for v in names:
-        var = VARIABLES[v]
-        attrs = {"long_name": var.long_name, "units": var.units}
-        if var.standard_name:
-            attrs["standard_name"] = var.standard_name
-        if var.dtype == "uint8":
-            attrs["flag_values"] = np.arange(len(scene.classes.names), dtype=np.uint8)
-            attrs["flag_meanings"] = " ".join(n.replace(" ", "_") for n in scene.classes.names)
-        data[v] = (("row", "col"), res[v], attrs)
+        data[v] = (("row", "col"), res[v], compute.variable_attributes(v, scene))
     ds = xr.Dataset(
         data,
         coords={
@@ -101,43 +95,52 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
             "time": t,
         },
     )
-    ds.attrs.update(compute.scene_attributes(scene, t))
+    ds.attrs.update(compute.scene_attributes(scene, t, params=params))
     ds.attrs["unseen_pixels"] = int(geo.unseen)
     ds.attrs["image_size"] = f"{cam.cols} x {cam.rows}"
     return ds
 
 
+#: Fixed top of the camera-view colour scale (glint reflectance factor), so
+#: that views of different times, headings and pitches compare directly.
+VIEW_SCALE_MAX = 0.1
+
+
+def _paths(outdir: Path, stem: str) -> dict[str, Path]:
+    return {
+        "png": outdir / f"{stem}_camera_view.png",
+        "netcdf": outdir / f"{stem}_camera_view.nc",
+        "footprint": outdir / f"{stem}_footprint.geojson",
+    }
+
+
 def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) -> CameraViewResult:
     """Write, per scene time, the camera-view PNG, NetCDF and footprint.
 
-    Files (``<stem>`` is the scene's file stem, with the time appended when
-    the scene has several): ``<stem>_camera_view.png`` (glint reflectance in
-    image coordinates), ``<stem>_camera_view.nc`` (every variable, image
-    coordinates, lon/lat of each pixel) and ``<stem>_footprint.geojson``
-    (the image's ground polygon; omitted when part of the image looks at or
-    above the horizon). Every file is written atomically; an existing file
-    is an error unless ``overwrite``.
+    Files (``<stem>`` is the scene's file stem followed by the time, as for
+    maps): ``<stem>_camera_view.png`` (glint reflectance in image
+    coordinates on a fixed colour scale from 0 to ``VIEW_SCALE_MAX``),
+    ``<stem>_camera_view.nc`` (every variable, image coordinates, lon/lat of
+    each pixel, zlib-compressed) and ``<stem>_footprint.geojson`` (the
+    image's ground polygon; omitted when part of the image looks at or above
+    the horizon). Every file is written atomically. Existing outputs are an
+    error unless ``overwrite``; all are checked before anything is computed.
     """
     from glint.maps import output_stem, prepare_outdir
 
     cam = _camera(scene)
     outdir = Path(outdir)
-    prepare_outdir(outdir)
-    result = CameraViewResult()
-    for t in scene.times:
-        stem = output_stem(scene, t, len(scene.times))
-        paths = {
-            "png": outdir / f"{stem}_camera_view.png",
-            "netcdf": outdir / f"{stem}_camera_view.nc",
-            "footprint": outdir / f"{stem}_footprint.geojson",
-        }
+    plans = [(t, _paths(outdir, output_stem(scene, t))) for t in scene.times]
+    for _, paths in plans:
         for p in paths.values():
             if p.exists() and not overwrite:
-                raise OutputError(f"output {str(p)!r} exists; use overwrite (--overwrite) to replace it")
+                raise OutputError(f"output {str(p)!r} exists; use --overwrite to replace it")
+    prepare_outdir(outdir)
+    result = CameraViewResult()
+    for t, paths in plans:
         ds = camera_view(scene, time=t, step=step)
         summary = _summary(ds, scene, t)
-        with io.atomic_path(paths["netcdf"], overwrite=overwrite) as tmp:
-            ds.to_netcdf(tmp, engine="netcdf4")
+        _write_netcdf(ds, scene, paths["netcdf"], overwrite, step)
         with io.atomic_path(paths["png"], overwrite=overwrite) as tmp:
             time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
             plot.quicklook(
@@ -145,8 +148,8 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
                 title=f"{scene.name}: glint reflectance in the camera image",
                 subtitle=f"{time_txt} UTC   sun zenith {summary['sun_zenith']:.1f}°, "
                          f"azimuth {summary['sun_azimuth']:.1f}°",
-                label="glint reflectance factor [1]", axis_units="px",
-                xlabel="image column [px]", ylabel="image row [px]",
+                label="glint reflectance factor [1] (fixed scale)", axis_units="px",
+                vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
             )
         result.files += [paths["png"], paths["netcdf"]]
         try:
@@ -154,24 +157,68 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
         except SensorError as exc:
             summary["footprint"] = f"not written: {exc}"
         else:
-            feature = {
-                "type": "Feature",
-                "properties": {"scene": scene.name, "time": str(np.datetime64(t, "s")) + "Z"},
-                "geometry": {"type": "Polygon", "coordinates": [
-                    [[float(x), float(y)] for x, y in zip(np.append(lon, lon[0]), np.append(lat, lat[0]))]
-                ]},
-            }
             with io.atomic_path(paths["footprint"], overwrite=overwrite) as tmp:
-                Path(tmp).write_text(json.dumps({"type": "FeatureCollection", "features": [feature]}))
+                Path(tmp).write_text(json.dumps(_footprint_geojson(lon, lat, scene, t)))
             result.files.append(paths["footprint"])
         try:
             gsd = cam.ground_sampling_distance()
         except SensorError:
             pass  # the image centre looks at or above the horizon
         else:
-            summary["ground_sampling_distance"] = f"{gsd[0]:.3g} m x {gsd[1]:.3g} m at the image centre"
+            summary["ground_sampling_distance"] = (
+                f"{gsd[0]:.3g} m from column to column x {gsd[1]:.3g} m from row to row, "
+                "at the image centre")
         result.summaries.append(summary)
     return result
+
+
+def _write_netcdf(ds, scene, path: Path, overwrite: bool, step: int) -> None:
+    """The camera view as a compressed CF NetCDF (image coordinates)."""
+    from glint import __version__
+
+    ds = ds.copy()
+    ds.attrs.update({
+        "Conventions": "CF-1.11, ACDD-1.3",
+        "title": f"Sun glint in the camera image: {scene.name}",
+        "summary": "Glint variables for each pixel of a camera image; lon/lat give the point "
+                   "where each pixel's ray meets the water.",
+        "source": f"glint {__version__}",
+        "history": f"{np.datetime_as_string(np.datetime64('now', 's'), unit='s')}Z glint camera-view",
+        "comment": plot.CAUTION,
+        "pixel_step": int(step),
+    })
+    ds["time"].attrs.update({"standard_name": "time", "long_name": "scene time",
+                             "units_metadata": "leap_seconds: none"})
+    encoding = {v: {"zlib": True, "complevel": 4} for v in ds.data_vars}
+    for v in ds.data_vars:
+        if ds[v].dtype == np.uint8:
+            encoding[v]["_FillValue"] = np.uint8(CLASS_NODATA)
+        else:
+            encoding[v]["_FillValue"] = np.float32(np.nan)
+    for c in ("lon", "lat"):
+        encoding[c] = {"zlib": True, "complevel": 4, "_FillValue": np.nan}
+    for c in ("row", "col"):
+        encoding[c] = {"_FillValue": None}
+    encoding["time"] = {"units": "seconds since 1970-01-01 00:00:00", "calendar": "proleptic_gregorian"}
+    with io.atomic_path(path, overwrite=overwrite) as tmp:
+        ds.to_netcdf(tmp, engine="netcdf4", encoding=encoding)
+
+
+def _footprint_geojson(lon: np.ndarray, lat: np.ndarray, scene, t) -> dict:
+    """A GeoJSON FeatureCollection of the footprint polygon, its ring counter-
+    clockwise as RFC 7946 asks for outer rings."""
+    x, y = np.asarray(lon, float), np.asarray(lat, float)
+    signed_area = 0.5 * np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y)
+    if signed_area < 0:
+        x, y = x[::-1], y[::-1]
+    ring = [[float(a), float(b)] for a, b in zip(np.append(x, x[0]), np.append(y, y[0]))]
+    feature = {
+        "type": "Feature",
+        "properties": {"scene": scene.name, "time": str(np.datetime64(t, "s")) + "Z",
+                       "corners": "image corners, counter-clockwise"},
+        "geometry": {"type": "Polygon", "coordinates": [ring]},
+    }
+    return {"type": "FeatureCollection", "features": [feature]}
 
 
 def _summary(ds, scene, t) -> dict:
@@ -182,11 +229,11 @@ def _summary(ds, scene, t) -> dict:
     counts = np.bincount(cls[valid].ravel(), minlength=len(scene.classes.names))
     refl = ds.glint_reflectance.values
     cam = scene.sensor
-    sun = compute.compute_points(scene, t, [cam.lon], [cam.lat], [0.0], [0.0], ["sun_zenith", "sun_azimuth"])
+    sun = compute.sun_angles(scene, t, cam.lat, cam.lon)
     return {
         "time": t,
-        "sun_zenith": float(sun["sun_zenith"][0]),
-        "sun_azimuth": float(sun["sun_azimuth"][0]),
+        "sun_zenith": float(sun.zenith),
+        "sun_azimuth": float(sun.azimuth),
         "sun_at": "below the camera",
         "max_glint_reflectance": float(np.nanmax(refl)) if np.isfinite(refl).any() else float("nan"),
         "class_shares": {name: (float(c) / n if n else 0.0) for name, c in zip(scene.classes.names, counts)},

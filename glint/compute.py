@@ -56,6 +56,8 @@ __all__ = [
     "compute_points",
     "classify",
     "scene_center_summary",
+    "sun_angles",
+    "variable_attributes",
 ]
 
 log = logging.getLogger(__name__)
@@ -126,8 +128,10 @@ def kernel_parameters(scene, time) -> KernelParameters:
     )
 
 
-def _sun(scene, time, lat, lon):
-    """Exact sun position with the scene's sun options."""
+def sun_angles(scene, time, lat, lon):
+    """Exact sun position (:func:`glint.sun.solar_position`) with the scene's
+    sun options (pressure, air temperature, refraction, delta T, height of
+    the water surface)."""
     o = scene.sun
     return solar_position(time, lat, lon, elevation=o.surface_elevation, pressure=o.pressure,
                           temperature=o.air_temperature, delta_t=o.delta_t, refraction=o.refraction)
@@ -137,7 +141,7 @@ def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: boo
     """Sun (and view) angles computed exactly at pixel indices."""
     pts = GroundPoints.from_pixels(scene.grid, rows, cols)
     va = scene.sensor.view_angles(pts, time)
-    sp = _sun(scene, time if va.time is None else va.time, pts.lat, pts.lon)
+    sp = sun_angles(scene, time if va.time is None else va.time, pts.lat, pts.lon)
     out = {"sun_zenith": np.asarray(sp.zenith, float), "sun_azimuth": np.asarray(sp.azimuth, float)}
     if views:
         out["view_zenith"] = np.asarray(va.view_zenith, float)
@@ -304,7 +308,7 @@ def compute_window(
                 # the sun is evaluated exactly where the pixel is seen.
                 seen = np.isfinite(ang["view_zenith"])
                 if np.any(seen):
-                    sp = _sun(scene, np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen])
+                    sp = sun_angles(scene, np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen])
                     ang["sun_zenith"][seen] = sp.zenith
                     ang["sun_azimuth"][seen] = sp.azimuth
     else:
@@ -362,6 +366,7 @@ def iter_blocks(
     block_rows: int = 512,
     variables: Sequence[str] | None = None,
     plan: GeometryPlan | None = None,
+    params: KernelParameters | None = None,
 ) -> Iterator[tuple[slice, dict[str, np.ndarray]]]:
     """Stream full-width strips of the grid: ``(row_slice, {name: array})``.
 
@@ -371,7 +376,7 @@ def iter_blocks(
     variables = _check_variables(variables)
     t = _scene_time(scene, time)
     plan = plan or plan_geometry(scene, t)
-    params = kernel_parameters(scene, t)
+    params = params or kernel_parameters(scene, t)
     for r0, r1 in scene.grid.blocks(block_rows):
         rs = slice(r0, r1)
         yield rs, compute_window(scene, plan, params, rs, None, variables)
@@ -423,16 +428,17 @@ def compute_dataset(
     ys = g.xy(np.arange(g.height, dtype=float), np.zeros(g.height))[1]
     ds = xr.Dataset(
         {
-            v: (("y", "x"), data[v], _attrs(v, scene))
+            v: (("y", "x"), data[v], variable_attributes(v, scene))
             for v in variables
         },
         coords={"y": ys, "x": xs, "time": t},
     )
-    ds.attrs.update(scene_attributes(scene, t, plan))
+    ds.attrs.update(scene_attributes(scene, t, plan, params))
     return ds
 
 
-def _attrs(name: str, scene) -> dict:
+def variable_attributes(name: str, scene) -> dict:
+    """CF attributes of one output variable (classes from the scene)."""
     var = VARIABLES[name]
     a = {"long_name": var.long_name, "units": var.units}
     if var.standard_name:
@@ -447,8 +453,10 @@ def _attrs(name: str, scene) -> dict:
     return a
 
 
-def scene_attributes(scene, time, plan: GeometryPlan | None = None) -> dict:
+def scene_attributes(scene, time, plan: GeometryPlan | None = None,
+                     params: KernelParameters | None = None) -> dict:
     """Scene-level metadata recorded with every output."""
+    params = params or kernel_parameters(scene, time)
     s = scene.surface
     attrs = {
         "scene_name": scene.name,
@@ -459,7 +467,7 @@ def scene_attributes(scene, time, plan: GeometryPlan | None = None) -> dict:
         "slope_model": s.slope_model,
         "slope_distribution": s.distribution,
         "shadowing": int(bool(s.shadowing)),
-        "refractive_index": float(scene.water.refractive_index_value()),
+        "refractive_index": params.refractive_index,
         "wavelength_nm": float(scene.water.wavelength),
     }
     if plan is not None:
@@ -508,6 +516,7 @@ def compute_points(
     view_zenith: np.ndarray,
     view_azimuth: np.ndarray,
     variables: Sequence[str] | None = None,
+    params: KernelParameters | None = None,
 ) -> dict[str, np.ndarray]:
     """Glint variables at arbitrary ground points (not on the scene grid).
 
@@ -527,6 +536,8 @@ def compute_points(
         Direction from each point to the sensor [°], true north.
     variables : sequence of str, optional
         Names from :data:`glint.variables.VARIABLES` (default: all).
+    params : KernelParameters, optional
+        From :func:`kernel_parameters` (computed when not given).
 
     Returns
     -------
@@ -536,14 +547,14 @@ def compute_points(
     variables = _check_variables(variables)
     t = np.datetime64(time, "ns")
     lon, lat, vz, va = np.broadcast_arrays(*(np.asarray(a, float) for a in (lon, lat, view_zenith, view_azimuth)))
-    sp = _sun(scene, t, lat, lon)
+    sp = sun_angles(scene, t, lat, lon)
     ang = {
         "sun_zenith": np.ascontiguousarray(sp.zenith, dtype=np.float32),
         "sun_azimuth": np.ascontiguousarray(sp.azimuth, dtype=np.float32),
         "view_zenith": np.ascontiguousarray(vz, dtype=np.float32),
         "view_azimuth": np.ascontiguousarray(va, dtype=np.float32),
     }
-    return _kernel_outputs(ang, kernel_parameters(scene, t), scene.classes, variables)
+    return _kernel_outputs(ang, params or kernel_parameters(scene, t), scene.classes, variables)
 
 
 def scene_center_summary(scene, time) -> dict:

@@ -118,6 +118,27 @@ def parse_crs(value: Any) -> CRS:
     return crs
 
 
+def _check_resolution_fits(
+    bounds: Any, extent: tuple[float, float], res: tuple[float, float],
+    resolution: Any, crs: Any,
+) -> None:
+    """Raise GridError when a pixel is larger than the extent along an axis."""
+    for axis, size, step in (("x", extent[0], res[0]), ("y", extent[1], res[1])):
+        if step > size * (1.0 + 1e-9):
+            c = parse_crs(crs)
+            if c.is_geographic:
+                advice = ("geographic, so degrees); for a resolution in metres give "
+                          "bounds in a projected CRS (the UTM zone's EPSG code, say)")
+            else:
+                unit = c.axis_info[0].unit_name if c.axis_info else "CRS units"
+                advice = f"unit: {unit}); give a resolution smaller than the box"
+            raise GridError(
+                f"resolution {resolution!r} is larger than the extent of bounds "
+                f"{bounds!r} along {axis} ({size:g}), which would give a single pixel; "
+                f"the resolution is in the units of the CRS ({c.name}, {advice}"
+            )
+
+
 def utm_crs_for(lon: float, lat: float) -> CRS:
     """WGS 84 / UTM CRS whose zone contains a point.
 
@@ -349,7 +370,9 @@ class Grid:
         ------
         GridError
             Bounds not finite or not ordered (left < right, bottom < top),
-            resolution not positive, or more than ``max_pixels`` pixels.
+            resolution not positive or larger than the extent along either
+            axis (usually a resolution in the wrong unit: it is in CRS units,
+            degrees for a geographic CRS), or more than ``max_pixels`` pixels.
 
         Notes
         -----
@@ -378,6 +401,8 @@ class Grid:
                 f"and bottom < top; got {bounds!r}"
             )
         xres, yres = _as_resolution(resolution)
+        _check_resolution_fits(bounds, (right - left, top - bottom), (xres, yres),
+                               resolution, crs)
         cols = max(1, math.ceil((right - left) / xres - 1e-9))
         rows = max(1, math.ceil((top - bottom) / yres - 1e-9))
         if rows * cols > max_pixels:
@@ -408,7 +433,8 @@ class Grid:
         west, south, east, north : float
             WGS 84 box [°]; ``-180 <= west < east <= 180`` and
             ``-90 <= south < north <= 90``. Boxes crossing the 180° meridian
-            are not supported.
+            are not supported: use :meth:`from_bounds` with bounds in a
+            projected CRS (the UTM zone's, say) for those.
         resolution : float or (float, float)
             Pixel size in units of the target CRS (metres for UTM).
         crs : optional
@@ -428,8 +454,10 @@ class Grid:
         Raises
         ------
         GridError
-            Coordinates out of range or unordered, box centre outside the UTM
-            band (give ``crs``), or too many pixels.
+            Coordinates out of range or unordered (the message suggests a
+            projected CRS for boxes across the 180° meridian), box centre
+            outside the UTM band (give ``crs``), resolution larger than the
+            projected box, or too many pixels.
 
         Notes
         -----
@@ -458,17 +486,33 @@ class Grid:
             raise GridError(f"longitudes must lie in [-180, 180] degrees; got {box!r}")
         if not (-90.0 <= s <= 90.0 and -90.0 <= n <= 90.0):
             raise GridError(f"latitudes must lie in [-90, 90] degrees; got {box!r}")
+        if w > e and s < n:
+            hint = ""
+            if e + 360.0 - w < 180.0:
+                centre = (w + e + 360.0) / 2.0
+                utm = utm_crs_for(centre - 360.0 if centre > 180.0 else centre,
+                                  (s + n) / 2.0)
+                hint = f" (here e.g. EPSG:{utm.to_epsg()}, {utm.name}, bounds in metres)"
+            raise GridError(
+                f"lon/lat box must be (west, south, east, north) with west < east; got "
+                f"{box!r}. If the box crosses the 180 degree meridian: lon/lat boxes "
+                f"cannot, so give bounds in a projected CRS instead, e.g. the EPSG code "
+                f"of the UTM zone{hint}"
+            )
         if not (w < e and s < n):
             raise GridError(
                 f"lon/lat box must be (west, south, east, north) with west < east and "
-                f"south < north (boxes across the 180 degree meridian are not "
-                f"supported); got {box!r}"
+                f"south < north; got {box!r}"
             )
         target = utm_crs_for((w + e) / 2.0, (s + n) / 2.0) if crs is None else parse_crs(crs)
         tr = Transformer.from_crs("EPSG:4326", target, always_xy=True)
         bounds = tr.transform_bounds(w, s, e, n, densify_pts=21)
         if not all(np.isfinite(bounds)):
             raise GridError(f"lon/lat box {box!r} cannot be projected to {target.name!r}")
+        # Before snapping, which may widen the box by up to one pixel.
+        left, bottom, right, top = bounds
+        _check_resolution_fits(box, (right - left, top - bottom),
+                               _as_resolution(resolution), resolution, target)
         if align:
             xres, yres = _as_resolution(resolution)
             left, bottom, right, top = bounds

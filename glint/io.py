@@ -275,6 +275,9 @@ class GeoTiffWriter:
         values are converted with ``str``.
     num_threads : str or int, optional
         GDAL compression threads, default ``"ALL_CPUS"``.
+    colormap : mapping of int to (r, g, b, a), optional
+        Palette of a one-band uint8 file (GIS software shows the classes in
+        these colours).
     cache_mb : int, optional
         GDAL block cache while the file is open [MB], default 256: full
         strips are compressed and flushed as they arrive, so memory stays
@@ -320,6 +323,7 @@ class GeoTiffWriter:
         tags: Mapping[str, Any] | None = None,
         num_threads: str | int = "ALL_CPUS",
         cache_mb: int = 256,
+        colormap: Mapping[int, tuple[int, int, int, int]] | None = None,
     ) -> None:
         self.path = Path(path)
         self.grid = grid
@@ -364,6 +368,7 @@ class GeoTiffWriter:
         self.tags = {str(k): str(v) for k, v in (tags or {}).items()}
         self.num_threads = str(num_threads)
         self.cache_mb = int(cache_mb)
+        self.colormap = dict(colormap) if colormap else None
         self._env: Any = None
         self._dst: Any = None
         self._files: list[_AtomicFile] = []
@@ -447,6 +452,8 @@ class GeoTiffWriter:
         dst.update_tags(
             AREA_OR_POINT="Area", TIFFTAG_SOFTWARE=f"glint {__version__}", **self.tags
         )
+        if self.colormap and len(self.variables) == 1 and self.dtype == np.uint8:
+            dst.write_colormap(1, self.colormap)
 
     def write(self, row_slice: slice | Sequence[int], arrays: Mapping[str, Any] | Sequence[Any]) -> None:
         """Write full-width rows of every variable.

@@ -17,7 +17,7 @@ from pathlib import Path
 import numpy as np
 
 from glint import compute, io, plot
-from glint.errors import InputError, OutputError
+from glint.errors import InputError, OutputError, SensorError
 from glint.variables import CLASS_NODATA, VARIABLES
 
 __all__ = ["FORMATS", "MapResult", "write_maps", "output_stem", "prepare_outdir"]
@@ -41,13 +41,14 @@ class MapResult:
         return self.summaries[0] if self.summaries else {}
 
 
-def output_stem(scene, time, n_times: int) -> str:
-    """File-name stem of one scene time: ``<stem>[_YYYYmmddTHHMMSS]``."""
-    stem = scene.file_stem
-    if n_times > 1:
-        t = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("-", "").replace(":", "")
-        stem = f"{stem}_{t}Z"
-    return stem
+def output_stem(scene, time) -> str:
+    """File-name stem of one scene time: ``<stem>_YYYYmmddTHHMMSSZ``.
+
+    The time is always part of the name, so maps of other times (a
+    ``--time`` override, a scene with several times) sit side by side.
+    """
+    t = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("-", "").replace(":", "")
+    return f"{scene.file_stem}_{t}Z"
 
 
 def _paths(outdir: Path, stem: str, formats: Sequence[str], float_vars, class_var) -> dict[str, Path]:
@@ -128,7 +129,7 @@ def write_maps(
     times = scene.times
     plans = []
     for t in times:
-        stem = output_stem(scene, t, len(times))
+        stem = output_stem(scene, t)
         paths = _paths(outdir, stem, formats, float_vars, class_var)
         for path in paths.values():
             if path.exists() and not overwrite:
@@ -170,7 +171,8 @@ def _estimated_bytes(scene, float_vars, class_var, formats) -> int:
 def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog, block_rows, progress) -> dict:
     g = scene.grid
     plan = compute.plan_geometry(scene, t)
-    attrs = compute.scene_attributes(scene, t, plan)
+    params = compute.kernel_parameters(scene, t)
+    attrs = compute.scene_attributes(scene, t, plan, params)
     center = compute.scene_center_summary(scene, t)
     step = plot.decimation_step(g.shape)
     quick_rows: list[np.ndarray] = []
@@ -190,9 +192,16 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
                 paths["geotiff"], g, float_vars, cog=cog, overwrite=overwrite,
                 compress=scene.outputs.compression, tags=attrs)), float_vars))
         if "classes" in paths:
+            class_tags = {
+                **attrs,
+                "glint_class_names": " ".join(class_flags[1]),
+                "glint_class_thresholds": " ".join(f"{x:g}" for x in class_flags[2]),
+                "glint_class_variable": scene.classes.variable,
+            }
             writers.append((stack.enter_context(io.GeoTiffWriter(
                 paths["classes"], g, ["glint_class"], cog=cog, overwrite=overwrite,
-                compress=scene.outputs.compression, tags=attrs)), ["glint_class"]))
+                compress=scene.outputs.compression, tags=class_tags,
+                colormap=class_colormap(n_classes))), ["glint_class"]))
         if "netcdf" in paths:
             nc_vars = float_vars + (["glint_class"] if class_var else [])
             writers.append((stack.enter_context(io.NetCDFWriter(
@@ -200,7 +209,8 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
                 class_flags=class_flags, overwrite=overwrite)), nc_vars))
         png_tmp = stack.enter_context(io.atomic_path(paths["png"], overwrite=overwrite)) if "png" in paths else None
 
-        for rs, block in compute.iter_blocks(scene, time=t, block_rows=block_rows, variables=needed, plan=plan):
+        for rs, block in compute.iter_blocks(scene, time=t, block_rows=block_rows, variables=needed, plan=plan,
+                                              params=params):
             for writer, names in writers:
                 writer.write(rs, {n: block[n] for n in names})
             refl = block["glint_reflectance"]
@@ -214,6 +224,12 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
             if progress is not None:
                 progress(rs.stop, g.height)
 
+        if unseen == g.height * g.width:
+            # Raised inside the writers' context: nothing is left on disk.
+            raise SensorError(
+                f"the sensor sees none of the grid's {unseen} pixels; check the sensor's "
+                "position and pointing against the grid"
+            )
         if png_tmp is not None:
             quick = np.concatenate(quick_rows, axis=0) if quick_rows else np.zeros((1, 1))
             left, bottom, right, top = g.bounds
@@ -224,7 +240,7 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
                 subtitle=(f"{time_txt} UTC   sun zenith {center['sun_zenith']:.1f}°, "
                           f"azimuth {center['sun_azimuth']:.1f}° (grid centre)"),
                 label="glint reflectance factor [1]",
-                axis_units=_axis_units(g),
+                axis_units=_axis_units(g), geographic=g.crs.is_geographic,
             )
 
     total = int(class_counts.sum())
@@ -239,6 +255,20 @@ def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, c
         "unseen_pixels": unseen,
         "tie_point_step": plan.step,
     }
+
+
+def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:
+    """Palette of the class raster: the lowest class blue-grey, higher
+    classes yellow to red, no data transparent (our own choice)."""
+    import matplotlib
+
+    cmap = matplotlib.colormaps["YlOrRd"]
+    colours = {0: (70, 110, 140, 255)}
+    for k in range(1, n_classes):
+        r, gr, b, _ = cmap(0.35 + 0.65 * k / max(n_classes - 1, 1))
+        colours[k] = (int(255 * r), int(255 * gr), int(255 * b), 255)
+    colours[CLASS_NODATA] = (0, 0, 0, 0)
+    return colours
 
 
 def _axis_units(g) -> str:

@@ -71,10 +71,19 @@ __all__ = [
     "OUTPUT_FORMATS",
     "COMPRESSIONS",
     "CLASS_VARIABLES",
+    "WAVELENGTH_RANGE",
 ]
 
 #: File formats that :func:`glint.maps.write_maps` can write.
 OUTPUT_FORMATS: tuple[str, ...] = ("geotiff", "netcdf", "png")
+#: Wavelengths [nm] accepted for ``[water] wavelength`` and ``glint sun
+#: --wavelength``: the ultraviolet-to-shortwave-infrared span of optical
+#: remote sensing (common practice); the refractive-index formulas warn
+#: outside their own, narrower validity.
+WAVELENGTH_RANGE: tuple[float, float] = (200.0, 2500.0)
+#: Aerodynamic roughness length [m] of the logarithmic wind profile, the
+#: default of :func:`glint.surface.wind_speed_at_height`.
+_ROUGHNESS_LENGTH = 2e-4
 #: Lossless compressions accepted for raster outputs.
 COMPRESSIONS: tuple[str, ...] = ("zstd", "deflate", "lzw", "none")
 #: Variables a class raster can be derived from (larger value = more glint).
@@ -320,6 +329,21 @@ def _range(low: float | None = None, high: float | None = None, *, low_open: boo
     return check
 
 
+def _wavelength_check(value: Any) -> str | None:
+    msg = _range(*WAVELENGTH_RANGE, unit="nm")(value)
+    if msg:
+        msg += " (wavelengths are in nanometres, e.g. 550 for green light, not micrometres)"
+    return msg
+
+
+def _wind_height_check(value: Any) -> str | None:
+    if not math.isfinite(value) or value <= _ROUGHNESS_LENGTH:
+        return (f"must exceed the roughness length {_ROUGHNESS_LENGTH:g} m of the "
+                f"logarithmic wind profile; got {value!r} (the height of the wind "
+                "measurement above the water, in metres, e.g. 10)")
+    return None
+
+
 def _one_of(allowed: tuple[str, ...]) -> Callable[[Any], str | None]:
     def check(value: Any) -> str | None:
         values = value if isinstance(value, (list, tuple)) else [value]
@@ -377,13 +401,13 @@ SECTIONS: dict[str, dict[str, _Key]] = {
                            check=_range(0, None, unit="m/s")),
         "wind_direction": _Key("number", doc="[deg] the wind blows from",
                                check=_range(0, 360, high_open=True, unit="deg")),
-        "wind_height": _Key("number", doc="[m]", check=_range(0, None, low_open=True, unit="m")),
+        "wind_height": _Key("number", doc="[m]", check=_wind_height_check),
         "slope_model": _Key("str", check=_one_of(SLOPE_MODELS)),
         "distribution": _Key("str", check=_one_of(SLOPE_DISTRIBUTIONS)),
         "shadowing": _Key("bool"),
     },
     "water": {
-        "wavelength": _Key("number", doc="[nm]", check=_range(0, None, low_open=True, unit="nm")),
+        "wavelength": _Key("number", doc="[nm]", check=_wavelength_check),
         "temperature": _Key("number", doc="[degC]", check=_range(-3, 100, unit="degC")),
         "salinity": _Key("number", doc="[PSU]", check=_range(0, None, unit="PSU")),
         "index_method": _Key("str", check=_one_of(REFRACTIVE_INDEX_METHODS)),
@@ -506,8 +530,8 @@ def _check_keys(section: str, table: Mapping[str, Any], problems: _Problems) -> 
             msg = "unknown key"
             close = difflib.get_close_matches(str(key), list(spec), n=1)
             if close:
-                msg += f"; did you mean {close[0]!r}?"
-            problems.add(path, f"{msg} Allowed keys: {', '.join(spec)}")
+                msg += f" (did you mean {close[0]!r}?)"
+            problems.add(path, f"{msg}; allowed keys: {', '.join(spec)}")
             continue
         k = spec[key]
         if not _type_ok(k.kind, value):
@@ -651,7 +675,8 @@ def _build_classes(good: dict[str, Any], problems: _Problems) -> GlintClasses:
                          "class)")
             ok = False
     if names is None:
-        if "thresholds" in good and len(thresholds) != len(GlintClasses.thresholds):
+        # The default names describe the default thresholds only.
+        if thresholds != GlintClasses.thresholds:
             names = tuple(f"class-{i}" for i in range(len(thresholds) + 1))
         else:
             names = GlintClasses.names
@@ -715,8 +740,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
             msg = "unknown section"
             close = difflib.get_close_matches(str(name), list(SECTIONS), n=1)
             if close:
-                msg += f"; did you mean [{close[0]}]?"
-            problems.add(str(name), f"{msg} Allowed sections: {', '.join(SECTIONS)}")
+                msg += f" (did you mean [{close[0]}]?)"
+            problems.add(str(name), f"{msg}; allowed sections: {', '.join(SECTIONS)}")
         elif not isinstance(table, Mapping):
             problems.add(name, f"expected a table [{name}], got {_type_name(table)} "
                          f"{_show(table)}")
@@ -755,6 +780,10 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
     # [surface], [water], [sun], [classes], [outputs]
     sf = _check_keys("surface", tables.get("surface", {}), problems) \
         if "surface" in tables else {}
+    if sf.get("distribution") == "gram-charlier" and "wind_direction" not in tables["surface"]:
+        problems.add("surface.distribution", "'gram-charlier' needs surface.wind_direction "
+                     "(its skewness points along the wind); give wind_direction [deg, the "
+                     "direction the wind blows from] or use distribution = \"gaussian\"")
     wt = _check_keys("water", tables.get("water", {}), problems)
     sn = _check_keys("sun", tables.get("sun", {}), problems)
     cl = _check_keys("classes", tables.get("classes", {}), problems)
@@ -837,8 +866,8 @@ def _apply_overrides(data: dict[str, Any], overrides: Mapping[str, Any],
             section, key = targets[name]
         else:
             close = difflib.get_close_matches(name, list(targets), n=1)
-            hint = f"; did you mean {close[0]!r}?" if close else ""
-            problems.append(f"override {name!r}: unknown key{hint} Allowed: "
+            hint = f" (did you mean {close[0]!r}?)" if close else ""
+            problems.append(f"override {name!r}: unknown key{hint}; allowed: "
                             f"{', '.join(sorted(targets))}, or 'section.key'")
             continue
         table = data.setdefault(section, {})

@@ -381,7 +381,9 @@ def parse_time(value: Any, key: str | None = "time") -> np.datetime64:
     Raises
     ------
     InputError
-        If the value has no time zone, no time of day, or cannot be read.
+        If the value has no time zone, no time of day, cannot be read, or
+        lies outside 1678-01-01 .. 2261-12-31 (UTC), the whole years that
+        ``datetime64[ns]`` holds.
 
     Examples
     --------
@@ -414,12 +416,27 @@ def parse_time(value: Any, key: str | None = "time") -> np.datetime64:
         raise InputError(f"{pre}expected a date-time with a time zone, got "
                          f"{type(value).__name__} {value!r}")
     try:
-        out = np.asarray(to_utc_datetime64(value)).astype("datetime64[ns]")
+        out = np.asarray(to_utc_datetime64(value))
     except InputError as exc:
         raise InputError(f"{pre}{exc}") from None
     if out.size != 1 or np.isnat(out.reshape(-1)[0]):
         raise InputError(f"{pre}{text!r} is not a single valid time")
-    return out.reshape(-1)[0]
+    one = out.reshape(-1)[0].astype("datetime64[us]")
+    # Whole years that datetime64[ns], in which the pipeline stores times,
+    # can hold (it ends at 1677-09-21 and 2262-04-11).
+    if not np.datetime64("1678-01-01", "us") <= one < np.datetime64("2262-01-01", "us"):
+        if isinstance(text, str):
+            shown = repr(text)
+        elif isinstance(text, _dt.datetime):
+            shown = text.isoformat()
+        else:
+            shown = f"{np.datetime_as_string(one, unit='s')}Z"
+        raise InputError(
+            f"{pre}{shown} is outside the supported time range: give an instant "
+            "from 1678-01-01T00:00:00Z to 2261-12-31T23:59:59Z (times are stored as "
+            "numpy datetime64[ns])"
+        )
+    return one.astype("datetime64[ns]")
 
 
 def to_utc_datetime64(time: Any) -> np.ndarray:
@@ -439,14 +456,15 @@ def to_utc_datetime64(time: Any) -> np.ndarray:
     ndarray of datetime64[ns]
         UTC instants, shaped like the input. Instants outside
         1678-2262, which nanoseconds cannot hold, come back as
-        ``datetime64[us]``.
+        ``datetime64[us]`` (never wrapped into other dates).
 
     Raises
     ------
     InputError
         For a naive ``datetime`` or naive pandas time (no time zone), a
-        ``datetime.date`` without a time, strings, numbers, or anything else
-        that is not a time.
+        ``datetime.date`` without a time, strings, numbers, anything else
+        that is not a time, or an instant that not even ``datetime64[us]``
+        can hold.
 
     Notes
     -----
@@ -469,8 +487,20 @@ def to_utc_datetime64(time: Any) -> np.ndarray:
         isinstance(time, np.ndarray) and time.dtype.kind == "M"
     ):
         arr = np.asarray(time)
-        if np.datetime_data(arr.dtype)[0] == "generic":  # only NaT has no unit
+        unit = np.datetime_data(arr.dtype)[0]
+        if unit == "generic":  # only NaT has no unit
             return arr.astype("datetime64[ns]")
+        if unit not in ("ns", "us", "ps", "fs", "as"):
+            # Coarse units (s, D, Y, ...) reach further than microseconds;
+            # numpy would wrap such instants into other dates.
+            back = arr.astype("datetime64[us]").astype(arr.dtype)
+            wrapped = ~np.isnat(arr) & (back != arr)
+            if np.any(wrapped):
+                raise InputError(
+                    f"time {arr[wrapped].reshape(-1)[0]!r} is too far from 1970 to be "
+                    "held as datetime64[us]; give instants within about 290,000 years "
+                    "of 1970 (and within 1678-2261 for maps and scene files)"
+                )
         return _finest(arr)
     if getattr(getattr(time, "dtype", None), "kind", None) == "M":
         # Other array types holding datetime64 (an xarray.DataArray, say).

@@ -201,7 +201,8 @@ def slope_variances(
     check_choice(model, "model", SLOPE_MODELS)
     w = _wind(wind_speed)
     low, high = SLOPE_MODEL_WIND_RANGE[model]
-    warn_outside(w, "wind_speed", low, high, f"the {model!r} slope model's data")
+    warn_outside(w, f"wind_speed (at the model's {SLOPE_MODEL_WIND_HEIGHT[model]:g} m height)", low, high,
+                 f"the {model!r} slope model's data")
     if model == "wu":
         with np.errstate(divide="ignore", invalid="ignore"):
             lnw = np.log(w)
@@ -255,7 +256,7 @@ def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
     (-0.29, 0.4)
     """
     w = _wind(wind_speed)
-    warn_outside(w, "wind_speed", 1.0, 14.0, "Cox and Munk's (1954) data")
+    warn_outside(w, "wind_speed (at 12.5 m)", 1.0, 14.0, "Cox and Munk's (1954) data")
     nan = np.where(np.isnan(w), np.nan, 0.0)
     return {
         "c21": _C21[0] + _C21[1] * w,

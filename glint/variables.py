@@ -75,8 +75,9 @@ _VARS = [
     ),
     Variable(
         "glint_class", "glint class", "1", dtype="uint8",
-        comment="Class of the normalised glint radiance; thresholds in the "
-        "attributes glint_class_thresholds.",
+        comment="Glint class of the variable named in glint_class_variable: class k holds "
+        "values from glint_class_thresholds[k-1] up to glint_class_thresholds[k]; class names "
+        "in flag_meanings (NetCDF) or glint_class_names (GeoTIFF tags); 255 = no data.",
     ),
 ]
 

@@ -185,6 +185,37 @@ def test_sun_unreadable_time(runner):
     assert "Error: --time: 'noon' is not an ISO 8601 date-time" in result.stderr
 
 
+def test_sun_time_outside_nanosecond_range(runner):
+    # numpy datetime64[ns] holds 1678..2262 only (numpy docs, "Datetime
+    # Units"); 2263 used to come out as a date in 1678.
+    result = runner.invoke(cli, ["sun", "--lat", "37", "--lon", "-8",
+                                 "--time", "2263-06-14T10:30:00Z"])
+    assert result.exit_code == 2, result.output
+    assert result.stderr.startswith(
+        "Error: --time: '2263-06-14T10:30:00Z' is outside the supported time range")
+    assert "1678-01-01T00:00:00Z to 2261-12-31T23:59:59Z" in result.stderr
+    assert "1678-11" not in result.output
+
+
+@pytest.mark.parametrize("value, ok", [
+    # The scene's [water] wavelength range, 200-2500 nm (common practice:
+    # ultraviolet to shortwave infrared); 0.55 is micrometres by mistake.
+    ("0.55", False), ("199", False), ("2600", False), ("1600", True), ("250", True),
+])
+@pytest.mark.filterwarnings("ignore::glint.errors.ValidityWarning")  # Quan-Fry extrapolation
+def test_sun_wavelength_range_matches_scene(runner, value, ok):
+    args = ["sun", "--lat", "37", "--lon", "-8", "--time", "2026-06-14T10:00:00Z",
+            "--wavelength", value]
+    result = runner.invoke(cli, args)
+    if ok:
+        assert result.exit_code == 0, result.output
+        assert f"at {float(value):g} nm" in result.output
+    else:
+        assert result.exit_code == 2
+        assert "--wavelength" in result.stderr and value in result.stderr
+        assert "200" in result.stderr and "2500" in result.stderr
+
+
 @pytest.mark.parametrize("args, word", [
     (["--lat", "95", "--lon", "0"], "--lat"),
     (["--lat", "10", "--lon", "0", "--wind-direction", "360"], "--wind-direction"),
@@ -216,7 +247,8 @@ def test_map_bad_scene_keys(runner, tmp_path, scene_file):
     assert result.exit_code == 2
     err = result.stderr
     assert err.startswith(f"Error: invalid scene {scene_file} (3 problems):")
-    assert "surface.wind_sped: unknown key; did you mean 'wind_speed'?" in err
+    assert ("surface.wind_sped: unknown key (did you mean 'wind_speed'?); allowed keys: "
+            "wind_speed, wind_direction" in err)
     assert "surface.wind_speed: required key is missing" in err
     assert "outputs.formats: unknown value 'jpeg'; allowed: 'geotiff', 'netcdf', 'png'" in err
     assert "Traceback" not in result.output

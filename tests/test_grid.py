@@ -289,6 +289,46 @@ def test_from_lonlat_box_bad_inputs(box, fragment):
     assert fragment in str(info.value)
 
 
+def test_from_bounds_refuses_resolution_larger_than_extent():
+    # EPSG:4326 axes are in degrees (EPSG registry, read through pyproj).
+    assert CRS.from_epsg(4326).axis_info[0].unit_name == "degree"
+    with pytest.raises(GridError) as info:
+        Grid.from_bounds((5.0, 52.0, 5.01, 52.01), 20.0, "EPSG:4326")
+    msg = str(info.value)
+    assert "resolution 20.0" in msg and "(5.0, 52.0, 5.01, 52.01)" in msg
+    assert "degrees" in msg and "projected CRS" in msg
+    # Along y only, in a projected CRS (metres).
+    with pytest.raises(GridError, match=r"along y \(10\).*metre"):
+        Grid.from_bounds((0.0, 0.0, 1000.0, 10.0), (5.0, 20.0), 32631)
+    # A resolution equal to the extent gives one pixel, as asked.
+    assert Grid.from_bounds((0.0, 0.0, 10.0, 10.0), 10.0, 32631).shape == (1, 1)
+
+
+def test_from_lonlat_box_refuses_resolution_larger_than_box():
+    # 1e-4 deg of longitude at 52 N is about 7 m (cos(52 deg) * 111.3 km per
+    # degree; common practice), less than a 100 m pixel.
+    with pytest.raises(GridError, match="larger than the extent"):
+        Grid.from_lonlat_box(5.0, 52.0, 5.0001, 52.0001, 100.0)
+
+
+def test_from_lonlat_box_across_antimeridian_names_workaround():
+    with pytest.raises(GridError) as info:
+        Grid.from_lonlat_box(179.8, -17.0, -179.9, -16.9, 10.0)
+    msg = str(info.value)
+    assert "(179.8, -17.0, -179.9, -16.9)" in msg and "180 degree meridian" in msg
+    # The box centre 179.95 E, 16.95 S is in UTM zone 60 south, which
+    # pyproj's UTM query (a reference library) confirms.
+    (info60,) = query_utm_crs_info(
+        datum_name="WGS 84",
+        area_of_interest=AreaOfInterest(179.95, -16.95, 179.95, -16.95))
+    assert f"EPSG:{info60.code}" in msg and "projected CRS" in msg
+    # The workaround works: the same box as bounds in that zone.
+    tr = Transformer.from_crs("EPSG:4326", f"EPSG:{info60.code}", always_xy=True)
+    bounds = tr.transform_bounds(179.8, -17.0, 180.1, -16.9, densify_pts=21)
+    rows, cols = Grid.from_bounds(bounds, 10.0, int(info60.code)).shape
+    assert rows > 1 and cols > 1
+
+
 # ------------------------------------------------------ meridian convergence
 @pytest.mark.parametrize(
     "epsg, lon, lat, expected",

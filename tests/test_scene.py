@@ -196,6 +196,38 @@ def test_toml_local_datetime_message(tmp_path):
         "scene.time: 2026-06-14T09:42:00 has no time zone; add Z or an offset like +01:00"]
 
 
+def test_scene_time_outside_nanosecond_range():
+    # numpy datetime64[ns] holds 1678..2262 only (numpy docs, "Datetime
+    # Units"); 2263 used to wrap round to 1678-11-23.
+    (msg,) = problems_of(with_value("scene", "time", "2263-06-14T10:30:00Z"))
+    assert msg.startswith("scene.time: '2263-06-14T10:30:00Z' is outside"), msg
+    assert "1678-01-01T00:00:00Z to 2261-12-31T23:59:59Z" in msg
+    data = base()
+    data["scene"].pop("time")
+    data["scene"]["times"] = [dt.datetime(2026, 6, 14, 10, tzinfo=UTC),
+                              dt.datetime(2263, 6, 14, 10, 30, tzinfo=UTC)]
+    (msg,) = problems_of(data)
+    assert msg.startswith("scene.times[1]: 2263-06-14T10:30:00+00:00 is outside"), msg
+
+
+def test_gram_charlier_needs_wind_direction():
+    # Cox and Munk (1954, J. Opt. Soc. Am. 44(11) 838, doi:10.1364/JOSA.44.000838):
+    # the skewness of the slopes lies along the wind, so the Gram-Charlier
+    # density cannot be set up without a wind direction.
+    data = with_value("surface", "distribution", "gram-charlier")
+    (msg,) = problems_of(data)
+    assert msg.startswith("surface.distribution: 'gram-charlier' needs "
+                          "surface.wind_direction"), msg
+    assert "gaussian" in msg
+    data["surface"]["wind_direction"] = 250.0
+    scene = scene_from_dict(data, base_dir=Path("."))
+    assert scene.surface.distribution == "gram-charlier"
+    # A bad direction is reported once, under its own key.
+    data["surface"]["wind_direction"] = 400.0
+    (msg,) = problems_of(data)
+    assert msg.startswith("surface.wind_direction: ")
+
+
 def test_times_list_and_errors():
     data = base()
     del data["scene"]["time"]
@@ -229,12 +261,20 @@ BAD_VALUES = [
     ("surface", "wind_speed", math.nan, [">= 0", "nan"]),
     ("surface", "wind_direction", 360.0, ["[0, 360) deg", "360.0"]),
     ("surface", "wind_direction", -5, ["[0, 360) deg"]),
-    ("surface", "wind_height", 0.0, ["> 0 m"]),
+    ("surface", "wind_height", 0.0, ["must exceed the roughness length 0.0002 m", "0.0"]),
+    # Below the 2e-4 m roughness length the log profile ln(z/z0) turns
+    # negative (common practice: z0 ~ 2e-4 m over the sea).
+    ("surface", "wind_height", 0.0001,
+     ["must exceed the roughness length 0.0002 m", "0.0001"]),
     ("surface", "slope_model", "cox_munk",
      ["'cox-munk', 'cox-munk-slick', 'breon-henriot', 'wu'", "did you mean 'cox-munk'"]),
     ("surface", "distribution", "normal", ["'gaussian', 'gram-charlier'"]),
     ("surface", "shadowing", "yes", ["expected true or false", "got string 'yes'"]),
-    ("water", "wavelength", 0.0, ["> 0 nm"]),
+    ("water", "wavelength", 0.0, ["[200, 2500] nm", "nanometres"]),
+    # 0.55 um meant as 550 nm (common practice: optical remote sensing spans
+    # about 200-2500 nm, ultraviolet to shortwave infrared).
+    ("water", "wavelength", 0.55, ["[200, 2500] nm", "got 0.55", "nanometres"]),
+    ("water", "wavelength", 2501.0, ["[200, 2500] nm", "2501.0"]),
     ("water", "temperature", 150.0, ["[-3, 100] degC"]),
     ("water", "salinity", -1.0, [">= 0 PSU"]),
     ("water", "index_method", "quanfry", ["'quan-fry', 'iapws'", "did you mean 'quan-fry'"]),
@@ -276,17 +316,26 @@ def test_bad_value_message(section, key, value, words):
 
 def test_unknown_key_lists_allowed_and_suggests():
     (msg,) = problems_of(with_value("surface", "wind_sped", 3.0))
-    assert msg.startswith("surface.wind_sped: unknown key")
-    assert "did you mean 'wind_speed'?" in msg
+    # Same wording as the sensor tables (glint.sensors): hint in brackets,
+    # then "; allowed keys: ...".
+    assert msg.startswith("surface.wind_sped: unknown key (did you mean 'wind_speed'?); "
+                          "allowed keys: "), msg
     for key in SECTIONS["surface"]:
         assert key in msg
+
+
+def test_unknown_key_without_hint_has_separator():
+    (msg,) = problems_of(with_value("scene", "foo", 1))
+    assert msg == ("scene.foo: unknown key; allowed keys: "
+                   + ", ".join(SECTIONS["scene"])), msg
 
 
 def test_unknown_section_lists_allowed_and_suggests():
     data = base()
     data["outptus"] = {"formats": ["png"]}
     (msg,) = problems_of(data)
-    assert msg.startswith("outptus: unknown section; did you mean [outputs]?")
+    assert msg.startswith("outptus: unknown section (did you mean [outputs]?); "
+                          "allowed sections: "), msg
     assert "scene, grid, sensor, surface, water, sun, classes, outputs" in msg
 
 
@@ -353,6 +402,21 @@ def test_classes_checks():
     assert scene.classes.names == ("class-0", "class-1")
 
 
+def test_changed_thresholds_get_generic_names():
+    # docs/user-guide.md, [classes]: thresholds changed without names give
+    # class-0, class-1, ...; the default names belong to the default
+    # thresholds only.
+    data = with_value("classes", "thresholds", [0.001, 0.01])
+    scene = scene_from_dict(data, base_dir=Path("."))
+    assert scene.classes.names == ("class-0", "class-1", "class-2")
+    data = with_value("classes", "thresholds", list(GlintClasses.thresholds))
+    scene = scene_from_dict(data, base_dir=Path("."))
+    assert scene.classes.names == GlintClasses.names
+    data = with_value("classes", "variable", "glint_reflectance")
+    scene = scene_from_dict(data, base_dir=Path("."))
+    assert scene.classes.names == GlintClasses.names
+
+
 # --------------------------------------------------------------------------
 # Grids and CRSs
 # --------------------------------------------------------------------------
@@ -371,6 +435,28 @@ def test_impossible_grid_is_prefixed():
     data["grid"] = {"west": 5.1, "south": 52.0, "east": 5.0, "north": 52.05, "resolution": 10.0}
     (msg,) = problems_of(data)
     assert msg.startswith("grid: ") and "west" in msg
+
+
+def test_resolution_in_metres_on_a_geographic_crs():
+    # EPSG:4326 has axes in degrees (EPSG registry, via pyproj): 20 means
+    # 20 degrees, more than the 0.01-degree box.
+    data = base()
+    data["grid"] = {"bounds": [5.0, 52.0, 5.01, 52.01], "resolution": 20.0,
+                    "crs": "EPSG:4326"}
+    (msg,) = problems_of(data)
+    assert msg.startswith("grid: resolution 20.0 is larger than the extent"), msg
+    assert "degrees" in msg and "projected CRS" in msg
+
+
+def test_lonlat_box_across_antimeridian_suggests_projected_bounds():
+    data = base()
+    data["grid"] = {"west": 179.8, "south": -17.0, "east": -179.9, "north": -16.9,
+                    "resolution": 10.0}
+    (msg,) = problems_of(data)
+    assert msg.startswith("grid: ") and "180 degree meridian" in msg
+    # 179.95 E, 16.95 S lies in UTM zone 60 south: EPSG:32760 (common
+    # practice: zone 60 spans 174 E - 180, EPSG 327zz for the south).
+    assert "bounds in a projected CRS" in msg and "EPSG:32760" in msg
 
 
 def test_grid_forms_are_exclusive_and_complete():

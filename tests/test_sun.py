@@ -359,6 +359,51 @@ def test_list_of_aware_datetimes_and_far_dates():
                            delta_t=20000.0)
 
 
+def test_far_dates_never_wrap():
+    # pandas, a reference library, bounds datetime64[ns] at
+    # 1677-09-21 .. 2262-04-11; a later instant must not come back as
+    # one of 1678 (numpy wraps silently on int64 overflow).
+    assert pd.Timestamp.max < pd.Timestamp("2263-01-01")
+    for when in ("2263-06-14T10:30:00", "1500-01-01T00:00:00"):
+        out = sun.to_utc_datetime64(np.datetime64(when, "s"))
+        assert np.datetime_as_string(out, unit="s") == when
+        utc = dt.datetime.fromisoformat(when).replace(tzinfo=dt.UTC)
+        assert np.datetime_as_string(sun.to_utc_datetime64(utc), unit="s") == when
+    # Beyond what microseconds hold (int64 us: about +-292,000 years,
+    # numpy datetime docs "Datetime Units" table): refused, not wrapped.
+    with pytest.raises(InputError, match="300000"):
+        sun.to_utc_datetime64(np.array(["2000", "300000"], dtype="datetime64[Y]"))
+
+
+@pytest.mark.parametrize("value", [
+    "2263-06-14T10:30:00Z",
+    "1677-12-31T23:59:59Z",
+    "2262-01-01T00:30:00+00:00",
+    dt.datetime(2300, 1, 1, tzinfo=dt.UTC),
+    np.datetime64("2263-06-14T10:30:00", "s"),
+])
+def test_parse_time_refuses_instants_outside_nanosecond_range(value):
+    # numpy datetime64[ns] spans 1678..2262 (numpy docs, "Datetime Units");
+    # pandas.Timestamp.min/max give the exact ends 1677-09-21 / 2262-04-11.
+    with pytest.raises(InputError) as info:
+        sun.parse_time(value, "scene.time")
+    msg = str(info.value)
+    assert msg.startswith("scene.time: ")
+    assert "1678-01-01T00:00:00Z to 2261-12-31T23:59:59Z" in msg
+    shown = value if isinstance(value, str) else str(value)[:4]
+    assert shown in msg, msg
+
+
+def test_parse_time_accepts_the_ends_of_the_range():
+    # The first and last instants allowed both lie inside
+    # [pandas.Timestamp.min, pandas.Timestamp.max] (reference library).
+    first = sun.parse_time("1678-01-01T00:00:00Z")
+    last = sun.parse_time("2262-01-01T00:59:59+01:00")
+    assert pd.Timestamp(first) == pd.Timestamp("1678-01-01T00:00:00")
+    assert pd.Timestamp(last) == pd.Timestamp("2261-12-31T23:59:59")
+    assert first.dtype == last.dtype == np.dtype("datetime64[ns]")
+
+
 def test_xarray_datetime64_array():
     xr = pytest.importorskip("xarray")
     t = np.array(["2024-06-01T12:00", "NaT"], dtype="datetime64[ns]")

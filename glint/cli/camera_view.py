@@ -20,7 +20,7 @@ _EPILOG = """\b
 Examples:
   glint camera-view example_scenes/drone_cove_survey.toml -o out
   glint camera-view scene.toml -o out --time 2026-06-14T07:30:00Z --overwrite
-  glint camera-view scene.toml -o out --step 4
+  glint camera-view scene.toml -o out --step 4 --heading 90 --pitch -70
 
 \b
 Exit codes: 0 success, 2 invalid scene or input (or a sensor that is not a
@@ -32,7 +32,7 @@ camera), 1 outputs could not be written.
 @click.argument("scene_file", metavar="SCENE.toml",
                 type=click.Path(exists=True, dir_okay=False, path_type=Path))
 @click.option("-o", "--output", "outdir", default="glint-output", show_default=True,
-              type=click.Path(file_okay=False, path_type=Path),
+              type=click.Path(path_type=Path),
               help="Output directory (created if its parent exists).")
 @click.option("--step", type=click.IntRange(min=1), default=1, show_default=True,
               help="Compute every STEP-th image pixel in both directions.")
@@ -43,9 +43,14 @@ camera), 1 outputs could not be written.
               help="Override surface.wind_direction [deg, direction the wind blows from].")
 @click.option("--time", "times", multiple=True, metavar="TIME",
               help="Override the scene time(s): ISO 8601 with Z or an offset (repeatable).")
+@click.option("--heading", type=float, metavar="DEG",
+              help="Override sensor.heading [deg clockwise from true north].")
+@click.option("--pitch", type=float, metavar="DEG",
+              help="Override sensor.pitch [deg; 0 horizontal, -90 straight down].")
 def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bool,
                         wind_speed: float | None, wind_direction: float | None,
-                        times: tuple[str, ...]) -> None:
+                        times: tuple[str, ...], heading: float | None,
+                        pitch: float | None) -> None:
     """Map glint in the image coordinates of the scene's camera.
 
     For a scene whose [sensor] is a frame camera (drone) or a fixed camera,
@@ -54,14 +59,12 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
     each pixel's ground point) and a GeoJSON of the image's ground footprint.
     """
     from glint.camera_view import write_camera_view
-    from glint.maps import prepare_outdir
 
     time_override: Any = None
     if times:
         time_override = list(times) if len(times) > 1 else times[0]
     scene = load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
-                       time=time_override)
-    prepare_outdir(outdir)
+                       time=time_override, **{"sensor.heading": heading, "sensor.pitch": pitch})
     result = write_camera_view(scene, outdir, step=step, overwrite=overwrite)
     click.echo(f"Wrote {len(result.files)} file(s):")
     for path in result.files:

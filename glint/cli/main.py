@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import logging
+import warnings
 
 import click
 
@@ -32,6 +33,11 @@ def exit_code_for(exc: GlintError) -> int:
     return 2 if isinstance(exc, _USER_ERRORS) else 1
 
 
+def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+    """Warnings as one plain line on standard error (no source location)."""
+    click.echo(f"Warning: {message}", err=True)
+
+
 class _GlintGroup(click.Group):
     """Click group that turns glint errors into a one-line message and an
     exit code, without a traceback."""
@@ -57,6 +63,7 @@ def cli(verbose: int, quiet: int) -> None:
     Glint maps are statistical estimates, not safety clearances. Never look at
     the sun or at its reflection on water.
     """
+    warnings.showwarning = _show_warning
     level = logging.WARNING - 10 * verbose + 10 * quiet
     logging.basicConfig(level=max(logging.DEBUG, min(level, logging.CRITICAL)),
                         format="%(levelname)s %(name)s: %(message)s")

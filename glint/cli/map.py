@@ -77,7 +77,7 @@ def format_summary(summary: dict[str, Any]) -> list[str]:
 @click.argument("scene_file", metavar="SCENE.toml",
                 type=click.Path(exists=True, dir_okay=False, path_type=Path))
 @click.option("-o", "--output", "outdir", default="glint-output", show_default=True,
-              type=click.Path(file_okay=False, path_type=Path),
+              type=click.Path(path_type=Path),
               help="Output directory (created if its parent exists).")
 @click.option("--format", "formats", multiple=True, type=click.Choice(OUTPUT_FORMATS),
               help="Output format (repeatable). Default: the scene's outputs.formats.")

@@ -8,6 +8,7 @@ import click
 import numpy as np
 
 from glint.cli.map import CAUTION
+from glint.scene import WAVELENGTH_RANGE
 from glint.sun import parse_time
 
 __all__ = ["sun_command"]
@@ -47,8 +48,9 @@ def _range(low: float, high: float, *, max_open: bool = False) -> click.FloatRan
 @click.option("--view-azimuth", default=0.0, show_default=True,
               type=_range(0, 360, max_open=True),
               help="Azimuth of the direction from the water to the sensor [deg].")
-@click.option("--wavelength", default=550.0, show_default=True, type=_range(350, 1000),
-              help="Wavelength [nm] for the refractive index of sea water.")
+@click.option("--wavelength", default=550.0, show_default=True,
+              type=_range(*WAVELENGTH_RANGE),
+              help="Wavelength [nm, nanometres] for the refractive index of sea water.")
 def sun_command(latitude: float, longitude: float, time_text: str, elevation: float,
                 wind_speed: float, wind_direction: float | None, view_zenith: float,
                 view_azimuth: float, wavelength: float) -> None:
