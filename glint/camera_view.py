@@ -134,7 +134,7 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
     for _, paths in plans:
         for p in paths.values():
             if p.exists() and not overwrite:
-                raise OutputError(f"output {str(p)!r} exists; use --overwrite to replace it")
+                raise OutputError(f"output {str(p)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
     prepare_outdir(outdir)
     result = CameraViewResult()
     for t, paths in plans:

@@ -133,7 +133,7 @@ def write_maps(
         paths = _paths(outdir, stem, formats, float_vars, class_var)
         for path in paths.values():
             if path.exists() and not overwrite:
-                raise OutputError(f"output {str(path)!r} exists; use overwrite (--overwrite) to replace it")
+                raise OutputError(f"output {str(path)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
         plans.append((t, paths))
     io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
 

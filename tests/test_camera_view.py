@@ -108,3 +108,24 @@ def test_cli_camera_view_prints_cautions(tmp_path):
     assert "local aviation rules" in r.output
     assert "below the camera" in r.output
     assert "ground sampling distance" in r.output
+
+
+def test_footprint_ring_is_counter_clockwise(tmp_path):
+    """RFC 7946: outer rings are counter-clockwise (positive shoelace area)."""
+    scene = _camera_scene(tmp_path, heading=37.0, pitch=-75.0)
+    res = cv.write_camera_view(scene, tmp_path, step=20)
+    gj = json.loads(next(p for p in res.files if p.suffix == ".geojson").read_text())
+    ring = np.array(gj["features"][0]["geometry"]["coordinates"][0])
+    x, y = ring[:-1, 0], ring[:-1, 1]
+    assert 0.5 * np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y) > 0
+
+
+def test_cli_heading_and_pitch_override(tmp_path):
+    """Turning the drone camera away from the sun removes the severe class
+    (the example's camera faces south-west with the sun in the south-east)."""
+    args = ["camera-view", str(EXAMPLES / "drone_cove_survey.toml"), "--step", "25"]
+    r1 = CliRunner().invoke(cli, args + ["-o", str(tmp_path / "a")])
+    r2 = CliRunner().invoke(cli, args + ["-o", str(tmp_path / "b"), "--heading", "300"])
+    assert r1.exit_code == 0 and r2.exit_code == 0, r1.output + r2.output
+    assert "severe 0.0 %" not in r1.output
+    assert "severe 0.0 %" in r2.output

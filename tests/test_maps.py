@@ -87,3 +87,30 @@ def test_several_times_give_one_set_each(tmp_path):
     assert len(res.files) == 2 and len(res.summaries) == 2
     assert res.files[0].name != res.files[1].name
     assert "20260614T090000Z" in res.files[0].name
+
+
+def test_file_names_carry_the_time(inlet, tmp_path):
+    res = maps.write_maps(inlet, tmp_path, formats=["png"])
+    assert res.files[0].name == "saltmarsh_reach_inlet_morning_survey_20260614T103000Z_glint.png"
+
+
+def test_sensor_seeing_nothing_is_an_error_and_writes_nothing(tmp_path):
+    from glint.errors import SensorError
+
+    scene = load_scene(EXAMPLES / "drone_cove_survey.toml", **{"sensor.pitch": 20.0})
+    out = tmp_path / "out"
+    with pytest.raises(SensorError, match="sees none of the grid"):
+        maps.write_maps(scene, out)
+    assert list(out.iterdir()) == []
+
+
+def test_class_raster_is_self_describing(inlet, tmp_path):
+    res = maps.write_maps(inlet, tmp_path, formats=["geotiff"])
+    cls = next(p for p in res.files if p.name.endswith("_glint_class.tif"))
+    with rasterio.open(cls) as src:
+        tags = src.tags()
+        assert tags["glint_class_names"].split() == list(inlet.classes.names)
+        assert [float(x) for x in tags["glint_class_thresholds"].split()] == list(inlet.classes.thresholds)
+        assert tags["glint_class_variable"] == inlet.classes.variable
+        cmap = src.colormap(1)
+        assert cmap[255][3] == 0 and all(cmap[k][3] == 255 for k in range(len(inlet.classes.names)))
