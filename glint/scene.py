@@ -54,7 +54,7 @@ from glint.grid import Grid, parse_crs
 from glint.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
 from glint.sensors import Sensor, sensor_from_table
 from glint.sun import parse_time
-from glint.surface import SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
+from glint.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
 __all__ = [
@@ -81,9 +81,6 @@ OUTPUT_FORMATS: tuple[str, ...] = ("geotiff", "netcdf", "png")
 #: remote sensing (common practice); the refractive-index formulas warn
 #: outside their own, narrower validity.
 WAVELENGTH_RANGE: tuple[float, float] = (200.0, 2500.0)
-#: Aerodynamic roughness length [m] of the logarithmic wind profile, the
-#: default of :func:`glint.surface.wind_speed_at_height`.
-_ROUGHNESS_LENGTH = 2e-4
 #: Lossless compressions accepted for raster outputs.
 COMPRESSIONS: tuple[str, ...] = ("zstd", "deflate", "lzw", "none")
 #: Variables a class raster can be derived from (larger value = more glint).
@@ -337,8 +334,8 @@ def _wavelength_check(value: Any) -> str | None:
 
 
 def _wind_height_check(value: Any) -> str | None:
-    if not math.isfinite(value) or value <= _ROUGHNESS_LENGTH:
-        return (f"must exceed the roughness length {_ROUGHNESS_LENGTH:g} m of the "
+    if not math.isfinite(value) or value <= ROUGHNESS_LENGTH:
+        return (f"must exceed the roughness length {ROUGHNESS_LENGTH:g} m of the "
                 f"logarithmic wind profile; got {value!r} (the height of the wind "
                 "measurement above the water, in metres, e.g. 10)")
     return None

@@ -40,6 +40,7 @@ __all__ = [
     "SLOPE_MODEL_WIND_RANGE",
     "SLOPE_DISTRIBUTIONS",
     "SLOPE_VARIANCE_FLOOR",
+    "ROUGHNESS_LENGTH",
     "WHITECAP_METHODS",
     "slope_variances",
     "gram_charlier_coefficients",
@@ -88,6 +89,10 @@ SLOPE_MODEL_WIND_RANGE: dict[str, tuple[float, float]] = {
 #: tilts of about 0.0023 that the sun's disc alone produces) keeps it finite. Kernels mirroring
 #: :func:`slope_pdf` apply the same floor.
 SLOPE_VARIANCE_FLOOR = 1e-6
+
+#: Aerodynamic roughness length of the open sea used by the logarithmic wind
+#: profile [m] (common practice; see :func:`wind_speed_at_height`).
+ROUGHNESS_LENGTH = 2e-4
 
 #: Names accepted by ``distribution=`` of :func:`slope_pdf`.
 SLOPE_DISTRIBUTIONS: tuple[str, ...] = ("gaussian", "gram-charlier")
@@ -502,7 +507,7 @@ def wind_speed_at_height(
     height: Any,
     *,
     target_height: Any = 10.0,
-    roughness_length: Any = 2e-4,
+    roughness_length: Any = ROUGHNESS_LENGTH,
 ) -> np.ndarray:
     """Convert a wind speed between heights with the logarithmic profile.
 
