@@ -3,12 +3,17 @@
 from __future__ import annotations
 
 from pathlib import Path
-from typing import Any
 
 import click
 
 from glint.cli.map import CAUTION, format_summary
-from glint.scene import load_scene
+from glint.cli.options import (
+    condition_options,
+    load_with_overrides,
+    output_option,
+    overwrite_option,
+    scene_argument,
+)
 
 __all__ = ["camera_view_command", "FLIGHT_CAUTION"]
 
@@ -29,20 +34,12 @@ camera), 1 outputs could not be written.
 
 
 @click.command("camera-view", epilog=_EPILOG)
-@click.argument("scene_file", metavar="SCENE.toml",
-                type=click.Path(exists=True, dir_okay=False, path_type=Path))
-@click.option("-o", "--output", "outdir", default="glint-output", show_default=True,
-              type=click.Path(path_type=Path),
-              help="Output directory (created if its parent exists).")
+@scene_argument
+@output_option
 @click.option("--step", type=click.IntRange(min=1), default=1, show_default=True,
               help="Compute every STEP-th image pixel in both directions.")
-@click.option("--overwrite", is_flag=True, help="Replace existing output files.")
-@click.option("--wind-speed", type=float, metavar="M/S",
-              help="Override surface.wind_speed [m/s at surface.wind_height].")
-@click.option("--wind-direction", type=float, metavar="DEG",
-              help="Override surface.wind_direction [deg, direction the wind blows from].")
-@click.option("--time", "times", multiple=True, metavar="TIME",
-              help="Override the scene time(s): ISO 8601 with Z or an offset (repeatable).")
+@overwrite_option
+@condition_options
 @click.option("--heading", type=float, metavar="DEG",
               help="Override sensor.heading [deg clockwise from true north].")
 @click.option("--pitch", type=float, metavar="DEG",
@@ -60,11 +57,8 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
     """
     from glint.camera_view import write_camera_view
 
-    time_override: Any = None
-    if times:
-        time_override = list(times) if len(times) > 1 else times[0]
-    scene = load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
-                       time=time_override, **{"sensor.heading": heading, "sensor.pitch": pitch})
+    scene = load_with_overrides(scene_file, wind_speed, wind_direction, times,
+                                **{"sensor.heading": heading, "sensor.pitch": pitch})
     result = write_camera_view(scene, outdir, step=step, overwrite=overwrite)
     click.echo(f"Wrote {len(result.files)} file(s):")
     for path in result.files:

@@ -10,7 +10,14 @@ from typing import Any
 import click
 import numpy as np
 
-from glint.scene import OUTPUT_FORMATS, load_scene
+from glint.cli.options import (
+    condition_options,
+    load_with_overrides,
+    output_option,
+    overwrite_option,
+    scene_argument,
+)
+from glint.scene import OUTPUT_FORMATS
 from glint.variables import VARIABLES
 
 __all__ = ["map_command", "CAUTION", "format_summary"]
@@ -74,27 +81,18 @@ def format_summary(summary: dict[str, Any]) -> list[str]:
 
 
 @click.command("map", epilog=_EPILOG)
-@click.argument("scene_file", metavar="SCENE.toml",
-                type=click.Path(exists=True, dir_okay=False, path_type=Path))
-@click.option("-o", "--output", "outdir", default="glint-output", show_default=True,
-              type=click.Path(path_type=Path),
-              help="Output directory (created if its parent exists).")
+@scene_argument
+@output_option
 @click.option("--format", "formats", multiple=True, type=click.Choice(OUTPUT_FORMATS),
               help="Output format (repeatable). Default: the scene's outputs.formats.")
 @click.option("--variable", "variables", multiple=True, type=click.Choice(list(VARIABLES)),
               metavar="NAME",
               help="Variable to write (repeatable): " + ", ".join(VARIABLES)
               + ". Default: the scene's outputs.variables.")
-@click.option("--overwrite", is_flag=True, help="Replace existing output files.")
+@overwrite_option
 @click.option("--cog/--no-cog", default=None,
               help="Write Cloud Optimized GeoTIFFs. Default: the scene's outputs.cog.")
-@click.option("--wind-speed", type=float, metavar="M/S",
-              help="Override surface.wind_speed [m/s at surface.wind_height].")
-@click.option("--wind-direction", type=float, metavar="DEG",
-              help="Override surface.wind_direction [deg, direction the wind blows from].")
-@click.option("--time", "times", multiple=True, metavar="TIME",
-              help="Override the scene time(s): ISO 8601 with Z or an offset, "
-                   "e.g. 2026-06-14T09:40:00Z (repeatable).")
+@condition_options
 def map_command(scene_file: Path, outdir: Path, formats: tuple[str, ...],
                 variables: tuple[str, ...], overwrite: bool, cog: bool | None,
                 wind_speed: float | None, wind_direction: float | None,
@@ -107,11 +105,7 @@ def map_command(scene_file: Path, outdir: Path, formats: tuple[str, ...],
     """
     from glint.maps import write_maps
 
-    time_override: Any = None
-    if times:
-        time_override = list(times) if len(times) > 1 else times[0]
-    scene = load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
-                       time=time_override)
+    scene = load_with_overrides(scene_file, wind_speed, wind_direction, times)
     log.info("scene %r: %d time(s), grid %s x %s", scene.name, len(scene.times),
              *scene.grid.shape)
     result = write_maps(scene, outdir, formats=formats or None, variables=variables or None,
