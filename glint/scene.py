@@ -53,7 +53,7 @@ from glint.errors import GlintError, GridError, InputError, InputFileError, Scen
 from glint.grid import Grid, parse_crs
 from glint.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
 from glint.sensors import Sensor, sensor_from_table
-from glint.sun import parse_time
+from glint.times import parse_time
 from glint.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 

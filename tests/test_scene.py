@@ -10,7 +10,7 @@ from pathlib import Path
 
 import numpy as np
 
-from glint.sun import parse_time
+from glint.times import parse_time
 import pytest
 
 from glint.errors import InputError, InputFileError, SceneError

@@ -12,7 +12,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
-from glint import sun
+from glint import sun, times
 from glint.errors import InputError, ValidityWarning
 
 pd = pytest.importorskip("pandas")
@@ -308,7 +308,7 @@ def test_naive_datetime_raises():
     with pytest.raises(InputError, match="naive.*tzinfo=datetime.timezone.utc"):
         sun.solar_position(dt.datetime(2024, 6, 1, 12), 45.0, 7.0)
     with pytest.raises(InputError, match="naive"):
-        sun.to_utc_datetime64([dt.datetime(2024, 6, 1, tzinfo=dt.timezone.utc),
+        times.to_utc_datetime64([dt.datetime(2024, 6, 1, tzinfo=dt.timezone.utc),
                                dt.datetime(2024, 6, 1)])
 
 
@@ -319,23 +319,23 @@ def test_aware_datetime_in_other_zone_equals_utc():
     a = sun.solar_position(local, 19.0, 72.8)
     b = sun.solar_position(utc, 19.0, 72.8)
     assert all(np.array_equal(x, y) for x, y in zip(a, b))
-    assert sun.to_utc_datetime64(local) == utc
+    assert times.to_utc_datetime64(local) == utc
 
 
 def test_pandas_times():
     utc = np.datetime64("2024-06-01T12:00", "ns")
     stamp = pd.Timestamp("2024-06-01 08:00", tz="America/New_York")
-    assert sun.to_utc_datetime64(stamp) == utc
+    assert times.to_utc_datetime64(stamp) == utc
     index = pd.DatetimeIndex(["2024-06-01 14:00", "2024-06-01 15:00"],
                              tz="Europe/Paris")
-    out = sun.to_utc_datetime64(index)
+    out = times.to_utc_datetime64(index)
     assert out.dtype == np.dtype("datetime64[ns]")
     assert out[0] == utc and out[1] == utc + np.timedelta64(1, "h")
     sp = sun.solar_position(index, 48.85, 2.35)
     assert sp.zenith.shape == (2,)
     assert sp.zenith[0] == float(sun.solar_position(utc, 48.85, 2.35).zenith)
     with pytest.raises(InputError, match="naive"):
-        sun.to_utc_datetime64(pd.Timestamp("2024-06-01 12:00"))
+        times.to_utc_datetime64(pd.Timestamp("2024-06-01 12:00"))
     with pytest.raises(InputError, match="naive"):
         sun.solar_position(pd.DatetimeIndex(["2024-06-01 12:00"]), 45.0, 7.0)
 
@@ -343,11 +343,11 @@ def test_pandas_times():
 def test_list_of_aware_datetimes_and_far_dates():
     ts = [dt.datetime(2024, 1, 1, tzinfo=dt.timezone.utc),
           dt.datetime(2024, 1, 1, 1, tzinfo=dt.timezone.utc)]
-    out = sun.to_utc_datetime64(ts)
+    out = times.to_utc_datetime64(ts)
     assert out.shape == (2,) and out.dtype == np.dtype("datetime64[ns]")
     # Far from 1970 nanoseconds overflow: the parser keeps microseconds and
     # the SPA still runs (stated validity -2000..6000, Reda and Andreas 2004).
-    far = sun.to_utc_datetime64(np.datetime64("-1500-03-01T00:00"))
+    far = times.to_utc_datetime64(np.datetime64("-1500-03-01T00:00"))
     assert far.dtype == np.dtype("datetime64[us]")
     with pytest.warns(ValidityWarning, match="5500.*-1999..3000"):
         sp = sun.solar_position(np.datetime64("5500-06-21T12:00"), 0.0, 0.0)
@@ -365,14 +365,14 @@ def test_far_dates_never_wrap():
     # one of 1678 (numpy wraps silently on int64 overflow).
     assert pd.Timestamp.max < pd.Timestamp("2263-01-01")
     for when in ("2263-06-14T10:30:00", "1500-01-01T00:00:00"):
-        out = sun.to_utc_datetime64(np.datetime64(when, "s"))
+        out = times.to_utc_datetime64(np.datetime64(when, "s"))
         assert np.datetime_as_string(out, unit="s") == when
         utc = dt.datetime.fromisoformat(when).replace(tzinfo=dt.UTC)
-        assert np.datetime_as_string(sun.to_utc_datetime64(utc), unit="s") == when
+        assert np.datetime_as_string(times.to_utc_datetime64(utc), unit="s") == when
     # Beyond what microseconds hold (int64 us: about +-292,000 years,
     # numpy datetime docs "Datetime Units" table): refused, not wrapped.
     with pytest.raises(InputError, match="300000"):
-        sun.to_utc_datetime64(np.array(["2000", "300000"], dtype="datetime64[Y]"))
+        times.to_utc_datetime64(np.array(["2000", "300000"], dtype="datetime64[Y]"))
 
 
 @pytest.mark.parametrize("value", [
@@ -386,7 +386,7 @@ def test_parse_time_refuses_instants_outside_nanosecond_range(value):
     # numpy datetime64[ns] spans 1678..2262 (numpy docs, "Datetime Units");
     # pandas.Timestamp.min/max give the exact ends 1677-09-21 / 2262-04-11.
     with pytest.raises(InputError) as info:
-        sun.parse_time(value, "scene.time")
+        times.parse_time(value, "scene.time")
     msg = str(info.value)
     assert msg.startswith("scene.time: ")
     assert "1678-01-01T00:00:00Z to 2261-12-31T23:59:59Z" in msg
@@ -397,8 +397,8 @@ def test_parse_time_refuses_instants_outside_nanosecond_range(value):
 def test_parse_time_accepts_the_ends_of_the_range():
     # The first and last instants allowed both lie inside
     # [pandas.Timestamp.min, pandas.Timestamp.max] (reference library).
-    first = sun.parse_time("1678-01-01T00:00:00Z")
-    last = sun.parse_time("2262-01-01T00:59:59+01:00")
+    first = times.parse_time("1678-01-01T00:00:00Z")
+    last = times.parse_time("2262-01-01T00:59:59+01:00")
     assert pd.Timestamp(first) == pd.Timestamp("1678-01-01T00:00:00")
     assert pd.Timestamp(last) == pd.Timestamp("2261-12-31T23:59:59")
     assert first.dtype == last.dtype == np.dtype("datetime64[ns]")
@@ -407,7 +407,7 @@ def test_parse_time_accepts_the_ends_of_the_range():
 def test_xarray_datetime64_array():
     xr = pytest.importorskip("xarray")
     t = np.array(["2024-06-01T12:00", "NaT"], dtype="datetime64[ns]")
-    out = sun.to_utc_datetime64(xr.DataArray(t, dims="time"))
+    out = times.to_utc_datetime64(xr.DataArray(t, dims="time"))
     assert out[0] == t[0] and np.isnat(out[1])
 
 
@@ -415,7 +415,7 @@ def test_xarray_datetime64_array():
                                  np.array([1.0, 2.0])])
 def test_unreadable_times_raise(bad):
     with pytest.raises(InputError, match="time"):
-        sun.to_utc_datetime64(bad)
+        times.to_utc_datetime64(bad)
 
 
 # ---------------------------------------------------------------------------

@@ -9,7 +9,7 @@ import numpy as np
 
 from glint.cli.map import CAUTION
 from glint.scene import WAVELENGTH_RANGE
-from glint.sun import parse_time
+from glint.times import parse_time
 
 __all__ = ["sun_command"]
 

@@ -25,7 +25,7 @@ import numpy as np
 
 from glint._units import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
 from glint.errors import GlintError, SceneError, SensorError
-from glint.sun import parse_time
+from glint.times import parse_time
 
 __all__ = [
     "GroundPoints",
