@@ -22,6 +22,7 @@ This module reads no file except a raster header in :meth:`Grid.from_raster`.
 
 from __future__ import annotations
 
+import functools
 import math
 import threading
 from collections.abc import Iterator
@@ -45,7 +46,12 @@ __all__ = [
     "utm_crs_for",
     "interpolate_nodes",
     "interpolate_azimuth_nodes",
+    "LONLAT_TOLERANCE",
 ]
+
+#: Largest error [°] allowed when :meth:`Grid.lonlat_rows` interpolates
+#: longitude and latitude from a node lattice (1e-7° is about 1 cm).
+LONLAT_TOLERANCE = 1e-7
 
 #: Largest grid (rows x cols) the constructors accept; larger requests are
 #: almost always a resolution given in the wrong unit.
@@ -694,6 +700,33 @@ class Grid:
         lon, lat = _transformer_to_lonlat(self.crs).transform(x, y)
         return np.asarray(lon, dtype=float), np.asarray(lat, dtype=float)
 
+    def lonlat_rows(self, row_start: int, row_stop: int) -> tuple[np.ndarray, np.ndarray]:
+        """Longitude and latitude [°] of every pixel centre in a strip of rows.
+
+        Interpolated from a node lattice when that stays within
+        :data:`LONLAT_TOLERANCE` of the exact transformation (checked at the
+        centres of the lattice cells when the lattice is first built; the
+        coarsest spacing of 64, 32, 16 or 8 pixels that passes with a 0.8
+        margin is used), else transformed exactly with pyproj. Projected
+        grids of the usual sizes interpolate; the lattice is built once per
+        grid.
+
+        Returns
+        -------
+        lon, lat : numpy.ndarray, shape (row_stop - row_start, width)
+            Longitudes in [-180, 180) and latitudes.
+        """
+        rows = np.arange(row_start, row_stop, dtype=float)
+        cols = np.arange(self.width, dtype=float)
+        lattice = _lonlat_lattice(self)
+        if lattice is None:
+            return self.lonlat(*self.window_xy(row_start, row_stop))
+        node_rows, node_cols, lon_nodes, lat_nodes = lattice
+        lon = interpolate_azimuth_nodes(lon_nodes, node_rows, node_cols, rows, cols)
+        lon = np.where(lon >= 180.0, lon - 360.0, lon)
+        lat = interpolate_nodes(lat_nodes, node_rows, node_cols, rows, cols)
+        return lon, lat
+
     def meridian_convergence(self, lon: Any, lat: Any) -> np.ndarray:
         """Meridian convergence gamma [°]: ``true = (grid + gamma) % 360``.
 
@@ -883,6 +916,36 @@ class Grid:
             ya = {"standard_name": "projection_y_coordinate", "long_name": "y coordinate of projection",
                   "units": unit, "axis": "Y"}
         return {"x": (x, xa), "y": (y, ya)}
+
+
+@functools.lru_cache(maxsize=16)
+def _lonlat_lattice(grid: Grid) -> tuple[np.ndarray, ...] | None:
+    """Node lattice of lon/lat meeting :data:`LONLAT_TOLERANCE`, or None."""
+    if grid.crs.is_geographic:
+        return None
+    for step in (64, 32, 16, 8):
+        if step >= max(grid.shape):
+            continue
+        node_rows, node_cols = grid.nodes(step)
+        if len(node_rows) < 2 or len(node_cols) < 2:
+            continue
+        rr, cc = np.meshgrid(node_rows, node_cols, indexing="ij")
+        lon, lat = grid.lonlat(*grid.xy(rr, cc))
+        if not (np.all(np.isfinite(lon)) and np.all(np.isfinite(lat))):
+            return None
+        checks = []
+        for axis in (node_rows, node_cols):
+            k = np.unique(np.linspace(0, len(axis) - 2, min(400, len(axis) - 1)).round().astype(int))
+            checks.append(0.5 * (axis[k] + axis[k + 1]))
+        mr, mc = checks
+        exact_lon, exact_lat = grid.lonlat(*grid.xy(*np.meshgrid(mr, mc, indexing="ij")))
+        approx_lon = interpolate_azimuth_nodes(np.mod(lon, 360.0), node_rows, node_cols, mr, mc)
+        approx_lat = interpolate_nodes(lat, node_rows, node_cols, mr, mc)
+        dlon = np.abs(np.mod(approx_lon - exact_lon + 180.0, 360.0) - 180.0)
+        err = max(float(dlon.max()), float(np.abs(approx_lat - exact_lat).max()))
+        if err <= 0.8 * LONLAT_TOLERANCE:
+            return node_rows, node_cols, np.mod(lon, 360.0), lat
+    return None
 
 
 def _node_axis(n: int, step: int) -> np.ndarray:

@@ -797,7 +797,7 @@ class NetCDFWriter:
         data = _strip_arrays(self.variables, arrays, (r1 - r0, self.grid.width))
         for name, a in zip(self.variables, data):
             self._nc.variables[name][r0:r1, :] = a.astype(VARIABLES[name].dtype, copy=False)
-        lon, lat = self.grid.lonlat(*self.grid.window_xy(r0, r1))
+        lon, lat = self.grid.lonlat_rows(r0, r1)
         if self.lonlat:
             self._nc.variables["lat"][r0:r1, :] = lat
             self._nc.variables["lon"][r0:r1, :] = lon

@@ -469,3 +469,25 @@ def test_cf_coordinates(utm_grid):
     assert x[0] == 600005.0 and y[0] == 5769995.0 and np.all(np.diff(y) < 0)
     assert xa["standard_name"] == "projection_x_coordinate" and xa["units"] == "m"
     assert ya["standard_name"] == "projection_y_coordinate"
+
+
+@pytest.mark.parametrize("crs, bounds", [
+    ("EPSG:32631", (600000.0, 5700000.0, 640000.0, 5730000.0)),   # UTM 31N
+    ("EPSG:32760", (280000.0, 5200000.0, 310000.0, 5230000.0)),   # UTM 60S, next to 180 deg
+    ("EPSG:3413", (-300000.0, -2500000.0, -270000.0, -2470000.0)),  # polar stereographic
+])
+def test_lonlat_rows_match_pyproj(crs, bounds):
+    """Interpolated strip lon/lat agree with pyproj's transformation (the
+    outside reference) within LONLAT_TOLERANCE, also next to 180 deg."""
+    from pyproj import Transformer
+
+    from glint.grid import LONLAT_TOLERANCE
+
+    g = Grid.from_bounds(bounds, 20.0, crs)
+    lon, lat = g.lonlat_rows(100, 300)
+    x, y = g.window_xy(100, 300)
+    ref_lon, ref_lat = Transformer.from_crs(crs, "EPSG:4326", always_xy=True).transform(x, y)
+    dlon = np.abs((lon - ref_lon + 180.0) % 360.0 - 180.0)
+    assert np.max(dlon) <= LONLAT_TOLERANCE
+    assert np.max(np.abs(lat - ref_lat)) <= LONLAT_TOLERANCE
+    assert np.all((lon >= -180.0) & (lon < 180.0))
