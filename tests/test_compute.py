@@ -262,3 +262,19 @@ def test_frame_camera_pixels_outside_image_are_nan(tmp_path):
     # half-diagonal field of view.
     half_diag = np.degrees(np.arctan(np.hypot(np.tan(np.radians(30)), np.tan(np.radians(22.5)))))
     assert np.nanmax(vz) <= half_diag + 0.1
+
+
+def test_per_pixel_times_rounded_to_ms_stay_exact(tmp_path, rng):
+    """Line-scanner style per-pixel times: rounding to whole milliseconds
+    moves the sun by less than 5e-6 deg (it moves < 0.0042 deg/s; common
+    practice: 360 deg per sidereal day)."""
+    from glint.sun import solar_position
+
+    scene = _scene(tmp_path)
+    base = np.datetime64("2026-06-14T10:30:00", "ns")
+    t = base + rng.integers(0, 60_000_000_000, 2000).astype("timedelta64[ns]")
+    lat = np.full(t.shape, 37.0)
+    lon = np.full(t.shape, -8.0)
+    got = compute.sun_angles(scene, t, lat, lon)
+    ref = solar_position(t, lat, lon, pressure=scene.sun.pressure, temperature=scene.sun.air_temperature)
+    assert np.max(compute.direction_error(got.zenith, got.azimuth, ref.zenith, ref.azimuth)) < 5e-6
