@@ -20,9 +20,9 @@ from pathlib import Path
 import numpy as np
 
 from glint import compute, io, plot
-from glint.errors import OutputError, SensorError
+from glint.errors import SensorError
 from glint.sensors import FrameCamera, camera_image_geometry
-from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES
+from glint.variables import CLASS_NODATA
 
 __all__ = ["CameraViewResult", "camera_view", "write_camera_view"]
 
@@ -77,7 +77,7 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
     cam = _camera(scene)
     t = scene.times[0] if time is None else np.datetime64(time, "ns")
     geo = camera_image_geometry(cam, step=step)
-    names = tuple(variables or DEFAULT_VARIABLES)
+    names = compute.check_variables(variables)
     params = compute.kernel_parameters(scene, t)
     res = compute.compute_points(scene, t, geo.lon, geo.lat, geo.view_zenith, geo.view_azimuth, names, params)
     rows = np.arange(0, cam.rows, step)
@@ -126,50 +126,52 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
     the horizon). Every file is written atomically. Existing outputs are an
     error unless ``overwrite``; all are checked before anything is computed.
     """
-    from glint.maps import output_stem, prepare_outdir
+    from glint.maps import output_directory, output_stem, refuse_existing
 
     cam = _camera(scene)
     outdir = Path(outdir)
     plans = [(t, _paths(outdir, output_stem(scene, t))) for t in scene.times]
-    for _, paths in plans:
-        for p in paths.values():
-            if p.exists() and not overwrite:
-                raise OutputError(f"output {str(p)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
-    prepare_outdir(outdir)
+    refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
     result = CameraViewResult()
-    for t, paths in plans:
-        ds = camera_view(scene, time=t, step=step)
-        summary = _summary(ds, scene, t)
-        _write_netcdf(ds, scene, paths["netcdf"], overwrite, step)
-        with io.atomic_path(paths["png"], overwrite=overwrite) as tmp:
-            time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
-            plot.quicklook(
-                ds.glint_reflectance.values, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), tmp,
-                title=f"{scene.name}: glint reflectance in the camera image",
-                subtitle=f"{time_txt} UTC   sun zenith {summary['sun_zenith']:.1f}°, "
-                         f"azimuth {summary['sun_azimuth']:.1f}°",
-                label="glint reflectance factor [1] (fixed scale)", axis_units="px",
-                vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
-            )
-        result.files += [paths["png"], paths["netcdf"]]
-        try:
-            lon, lat = cam.footprint()
-        except SensorError as exc:
-            summary["footprint"] = f"not written: {exc}"
-        else:
-            with io.atomic_path(paths["footprint"], overwrite=overwrite) as tmp:
-                Path(tmp).write_text(json.dumps(_footprint_geojson(lon, lat, scene, t)))
-            result.files.append(paths["footprint"])
-        try:
-            gsd = cam.ground_sampling_distance()
-        except SensorError:
-            pass  # the image centre looks at or above the horizon
-        else:
-            summary["ground_sampling_distance"] = (
-                f"{gsd[0]:.3g} m from column to column x {gsd[1]:.3g} m from row to row, "
-                "at the image centre")
-        result.summaries.append(summary)
+    with output_directory(outdir):
+        for t, paths in plans:
+            result.summaries.append(_write_one_view(scene, cam, t, paths, step, overwrite, result.files))
     return result
+
+
+def _write_one_view(scene, cam, t, paths: dict, step: int, overwrite: bool, files: list) -> dict:
+    """Compute and write the camera view of one time; returns its summary."""
+    ds = camera_view(scene, time=t, step=step)
+    summary = _summary(ds, scene, t)
+    _write_netcdf(ds, scene, paths["netcdf"], overwrite, step)
+    with io.atomic_path(paths["png"], overwrite=overwrite) as tmp:
+        time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
+        plot.quicklook(
+            ds.glint_reflectance.values, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), tmp,
+            title=f"{scene.name}: glint reflectance in the camera image",
+            subtitle=f"{time_txt} UTC   sun zenith {summary['sun_zenith']:.1f}°, "
+                     f"azimuth {summary['sun_azimuth']:.1f}°",
+            label="glint reflectance factor [1] (fixed scale)", axis_units="px",
+            vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
+        )
+    files += [paths["png"], paths["netcdf"]]
+    try:
+        lon, lat = cam.footprint()
+    except SensorError as exc:
+        summary["footprint"] = f"not written: {exc}"
+    else:
+        with io.atomic_path(paths["footprint"], overwrite=overwrite) as tmp:
+            Path(tmp).write_text(json.dumps(_footprint_geojson(lon, lat, scene, t)))
+        files.append(paths["footprint"])
+    try:
+        gsd = cam.ground_sampling_distance()
+    except SensorError:
+        pass  # the image centre looks at or above the horizon
+    else:
+        summary["ground_sampling_distance"] = (
+            f"{gsd[0]:.3g} m from column to column x {gsd[1]:.3g} m from row to row, "
+            "at the image centre")
+    return summary
 
 
 def _write_netcdf(ds, scene, path: Path, overwrite: bool, step: int) -> None:

@@ -54,6 +54,7 @@ __all__ = [
     "iter_blocks",
     "compute_dataset",
     "compute_points",
+    "check_variables",
     "classify",
     "scene_center_summary",
     "sun_angles",
@@ -350,12 +351,13 @@ def _kernel_outputs(f32: dict, params: KernelParameters, classes, variables: Seq
             result[name] = out[name]
         elif name == "glint_class":
             result[name] = classify(out[classes.variable], classes.thresholds)
-        else:  # pragma: no cover - guarded by _check_variables
+        else:  # pragma: no cover - guarded by check_variables
             raise InputError(f"unknown variable {name!r}")
     return result
 
 
-def _check_variables(variables: Sequence[str] | None) -> tuple[str, ...]:
+def check_variables(variables: Sequence[str] | None) -> tuple[str, ...]:
+    """The variable names as a tuple (all by default); InputError naming any unknown one."""
     if variables is None:
         return DEFAULT_VARIABLES
     bad = [v for v in variables if v not in VARIABLES]
@@ -384,7 +386,7 @@ def iter_blocks(
     Memory stays bounded by the strip size whatever the grid size.
     ``time`` defaults to the scene's first time.
     """
-    variables = _check_variables(variables)
+    variables = check_variables(variables)
     t = _scene_time(scene, time)
     plan = plan or plan_geometry(scene, t)
     params = params or kernel_parameters(scene, t)
@@ -423,7 +425,7 @@ def compute_dataset(
     """
     import xarray as xr
 
-    variables = _check_variables(variables)
+    variables = check_variables(variables)
     t = _scene_time(scene, time)
     g = scene.grid
     plan = plan_geometry(scene, t)
@@ -555,7 +557,7 @@ def compute_points(
     dict of numpy.ndarray
         float32 arrays (uint8 for ``glint_class``) of the points' shape.
     """
-    variables = _check_variables(variables)
+    variables = check_variables(variables)
     t = np.datetime64(time, "ns")
     lon, lat, vz, va = np.broadcast_arrays(*(np.asarray(a, float) for a in (lon, lat, view_zenith, view_azimuth)))
     sp = sun_angles(scene, t, lat, lon)

@@ -20,7 +20,8 @@ from glint import compute, io, plot
 from glint.errors import InputError, OutputError, SensorError
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem", "prepare_outdir"]
+__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem", "prepare_outdir", "output_directory",
+           "refuse_existing"]
 
 log = logging.getLogger(__name__)
 
@@ -112,13 +113,9 @@ def write_maps(
     bad = [f for f in formats if f not in FORMATS]
     if bad:
         raise InputError(f"unknown output format(s) {bad!r}; allowed: {', '.join(FORMATS)}")
-    variables = tuple(variables or scene.outputs.variables)
-    unknown = [v for v in variables if v not in VARIABLES]
-    if unknown:
-        raise InputError(f"unknown variable(s) {unknown!r}; allowed: {', '.join(VARIABLES)}")
+    variables = compute.check_variables(variables or scene.outputs.variables)
     cog = scene.outputs.cog if cog is None else bool(cog)
     outdir = Path(outdir)
-    prepare_outdir(outdir)
 
     float_vars = [v for v in variables if VARIABLES[v].dtype != "uint8"]
     class_var = "glint_class" in variables
@@ -127,28 +124,51 @@ def write_maps(
     needed = list(dict.fromkeys(list(variables) + ["glint_reflectance", "view_zenith", "glint_class"]))
 
     times = scene.times
-    plans = []
-    for t in times:
-        stem = output_stem(scene, t)
-        paths = _paths(outdir, stem, formats, float_vars, class_var)
-        for path in paths.values():
-            if path.exists() and not overwrite:
-                raise OutputError(f"output {str(path)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
-        plans.append((t, paths))
-    io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
-
+    plans = [(t, _paths(outdir, output_stem(scene, t), formats, float_vars, class_var)) for t in times]
+    refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
     result = MapResult()
-    for t, paths in plans:
-        summary = _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog, block_rows, progress)
-        result.summaries.append(summary)
-        result.files.extend(paths[k] for k in ("geotiff", "classes", "netcdf", "png") if k in paths)
+    with output_directory(outdir):
+        io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
+        for t, paths in plans:
+            summary = _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog,
+                                      block_rows, progress)
+            result.summaries.append(summary)
+            result.files.extend(paths[k] for k in ("geotiff", "classes", "netcdf", "png") if k in paths)
     return result
 
 
-def prepare_outdir(outdir: Path) -> None:
-    """Create the output directory (not its parents); OutputError if impossible."""
+def refuse_existing(paths, overwrite: bool) -> None:
+    """OutputError naming the first of ``paths`` that exists, unless ``overwrite``."""
+    if overwrite:
+        return
+    for path in paths:
+        if path.exists():
+            raise OutputError(
+                f"output {str(path)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
+
+
+@contextlib.contextmanager
+def output_directory(outdir: Path):
+    """Create ``outdir`` if needed (see :func:`prepare_outdir`) for a run;
+    if the run fails before writing anything, remove the directory again."""
+    created = prepare_outdir(outdir)
+    try:
+        yield outdir
+    except BaseException:
+        if created and not any(outdir.iterdir()):
+            outdir.rmdir()  # leave no trace of a run that wrote nothing
+        raise
+
+
+def prepare_outdir(outdir: Path) -> bool:
+    """Create the output directory (not its parents); OutputError if impossible.
+
+    Returns True when the directory was created by this call.
+    """
     if outdir.exists() and not outdir.is_dir():
         raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
+    if outdir.is_dir():
+        return False
     try:
         outdir.mkdir(parents=False, exist_ok=True)
     except FileNotFoundError as exc:
@@ -157,6 +177,7 @@ def prepare_outdir(outdir: Path) -> None:
         ) from exc
     except PermissionError as exc:
         raise OutputError(f"cannot create output directory {str(outdir)!r}: permission denied") from exc
+    return True
 
 
 def _estimated_bytes(scene, float_vars, class_var, formats) -> int:

@@ -72,7 +72,7 @@ def test_failure_mid_way_leaves_nothing(inlet, tmp_path, monkeypatch):
     out = tmp_path / "out"
     with pytest.raises(RuntimeError, match="simulated"):
         maps.write_maps(inlet, out, block_rows=64)
-    assert list(out.iterdir()) == []
+    assert not out.exists(), "the output directory this run created should be gone"
 
 
 def test_missing_parent_directory(inlet, tmp_path):
@@ -101,7 +101,12 @@ def test_sensor_seeing_nothing_is_an_error_and_writes_nothing(tmp_path):
     out = tmp_path / "out"
     with pytest.raises(SensorError, match="sees none of the grid"):
         maps.write_maps(scene, out)
-    assert list(out.iterdir()) == []
+    assert not out.exists()
+    # An existing directory is kept (and stays empty).
+    out.mkdir()
+    with pytest.raises(SensorError):
+        maps.write_maps(scene, out)
+    assert out.is_dir() and list(out.iterdir()) == []
 
 
 def test_class_raster_is_self_describing(inlet, tmp_path):
