@@ -687,6 +687,24 @@ def _build_classes(good: dict[str, Any], problems: _Problems) -> GlintClasses:
                         thresholds=thresholds, names=names)
 
 
+def _check_sensor_time(sensor: Sensor, times: tuple, problems: Any) -> None:
+    """A sensor whose imaging time is fixed in its own table (a push-broom's
+    ``centre_time``, a line scanner's ``start_time``) must agree with every
+    scene time: a map at another time would show the fixed time's geometry
+    under another label."""
+    key = getattr(sensor, "time_key", None)
+    pinned = getattr(sensor, key, None) if key else None
+    if pinned is None:
+        return
+    other = [t for t in times if t != pinned]
+    if other:
+        shown = ", ".join(str(np.datetime64(t, "s")) + "Z" for t in other[:3])
+        problems.add(f"sensor.{key}",
+                     f"{np.datetime64(pinned, 's')}Z differs from the scene time(s) {shown}; "
+                     f"the sensor images the scene at its own times, so leave out sensor.{key} "
+                     "(it then follows the scene time, also under --time) or map that time")
+
+
 def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
                     source: Path | str | None = None) -> Scene:
     """Build and validate a :class:`Scene` from a nested mapping.
@@ -773,6 +791,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
             problems.items.extend(exc.problems)
         except GlintError as exc:  # e.g. InputFileError of an angle raster
             problems.add("sensor", str(exc))
+        else:
+            _check_sensor_time(sensor, times, problems)
 
     # [surface], [water], [sun], [classes], [outputs]
     sf = _check_keys("surface", tables.get("surface", {}), problems) \

@@ -601,3 +601,38 @@ def test_scene_from_dict_does_not_modify_input():
     kept = copy.deepcopy(data)
     scene_from_dict(data, base_dir=Path("."))
     assert data == kept
+
+
+def test_sensor_time_must_agree_with_scene_time(tmp_path):
+    """A push-broom's own centre_time pins its imaging geometry; mapping at
+    another scene time would mislabel the map, so it is a scene problem."""
+    from glint.errors import SceneError
+    from glint.scene import scene_from_dict
+
+    data = {
+        "scene": {"name": "pb", "time": "2026-06-14T14:00:00Z"},
+        "grid": {"west": 3.0, "south": 54.0, "east": 3.05, "north": 54.03, "resolution": 50.0},
+        "sensor": {"kind": "push-broom", "altitude": 700000.0, "heading": 190.0,
+                   "centre_time": "2026-06-14T10:21:00Z"},
+        "surface": {"wind_speed": 5.0},
+    }
+    with pytest.raises(SceneError, match=r"sensor\.centre_time: 2026-06-14T10:21:00Z differs"):
+        scene_from_dict(data, base_dir=tmp_path)
+    data["scene"]["time"] = "2026-06-14T10:21:00Z"
+    assert scene_from_dict(data, base_dir=tmp_path).sensor.centre_time is not None
+
+
+def test_time_override_moves_a_push_broom_pass():
+    """Without centre_time the pass follows the scene time, so --time gives
+    a different sun (an hour later the sun is higher in the late morning)."""
+    from pathlib import Path
+
+    from glint import compute
+    from glint.scene import load_scene
+
+    f = Path(__file__).resolve().parents[1] / "example_scenes" / "satellite_swath_windfarm.toml"
+    a = load_scene(f)
+    b = load_scene(f, time="2026-06-14T11:21:00Z")
+    za = compute.scene_center_summary(a, a.times[0])["sun_zenith"]
+    zb = compute.scene_center_summary(b, b.times[0])["sun_zenith"]
+    assert zb < za - 3.0

@@ -91,6 +91,9 @@ class LineScanner:
         self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
         self.scan_half_angle = check_open_interval(scan_half_angle, "scan_half_angle", 0.0, 90.0)
         self.start_time = None if start_time is None else np.datetime64(start_time, "ns")
+        #: The attribute holding an imaging time fixed by the sensor's own
+        #: table (None: it follows the scene time).
+        self.time_key = "start_time"
         # Heading of the line at its start, from the two ECEF points.
         p0 = np.array(ecef_from_lonlat(lon0, lat0, 0.0))
         p1 = np.array(ecef_from_lonlat(lon1, lat1, 0.0))

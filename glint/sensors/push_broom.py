@@ -229,6 +229,9 @@ class PushBroom:
             ground_speed = circular_orbit_ground_speed(self.altitude, self.radius_along)
         self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
         self.centre_time = None if centre_time is None else np.datetime64(centre_time, "ns")
+        #: The attribute holding an imaging time fixed by the sensor's own
+        #: table (None: it follows the scene time).
+        self.time_key = "centre_time"
         eta = np.radians(self.tilt)
         k = (r_across + self.altitude) / r_across * np.sin(eta)
         if abs(k) >= 1.0:
