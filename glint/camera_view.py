@@ -35,12 +35,23 @@ class CameraViewResult:
     summaries: list[dict] = field(default_factory=list)
 
 
+def _kind_name(sensor) -> str:
+    """The scene-file ``kind`` of a sensor object."""
+    from glint.sensors import SENSOR_KINDS
+
+    for kind, spec in SENSOR_KINDS.items():
+        built = getattr(spec.builder, "__module__", None)
+        if built == type(sensor).__module__:
+            return kind
+    return type(sensor).__name__
+
+
 def _camera(scene) -> FrameCamera:
     cam = scene.sensor
     if not isinstance(cam, FrameCamera):
         raise SensorError(
             f"camera views need a sensor of kind 'frame-camera' or 'fixed-camera'; "
-            f"this scene's sensor is {type(cam).__name__}"
+            f"this scene's sensor is of kind {_kind_name(cam)!r}"
         )
     return cam
 
@@ -126,14 +137,12 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
     the horizon). Every file is written atomically. Existing outputs are an
     error unless ``overwrite``; all are checked before anything is computed.
     """
-    from glint.maps import output_directory, output_stem, refuse_existing
-
     cam = _camera(scene)
     outdir = Path(outdir)
-    plans = [(t, _paths(outdir, output_stem(scene, t))) for t in scene.times]
-    refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
+    plans = [(t, _paths(outdir, io.output_stem(scene, t))) for t in scene.times]
+    io.refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
     result = CameraViewResult()
-    with output_directory(outdir):
+    with io.output_directory(outdir):
         for t, paths in plans:
             result.summaries.append(_write_one_view(scene, cam, t, paths, step, overwrite, result.files))
     return result

@@ -58,6 +58,7 @@ __all__ = [
     "classify",
     "scene_center_summary",
     "sun_angles",
+    "point_glint",
     "variable_attributes",
 ]
 
@@ -108,7 +109,10 @@ class GeometryPlan:
 
 def kernel_parameters(scene, time) -> KernelParameters:
     """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
-    surf = scene.surface
+    return _kernel_parameters(scene.surface, scene.water, time)
+
+
+def _kernel_parameters(surf, water, time) -> KernelParameters:
     model_height = SLOPE_MODEL_WIND_HEIGHT[surf.slope_model]
     wind = float(wind_speed_at_height(surf.wind_speed, surf.wind_height, target_height=model_height))
     # Calm water: the variances are floored as in surface.slope_pdf, so a
@@ -118,7 +122,7 @@ def kernel_parameters(scene, time) -> KernelParameters:
     if surf.distribution == "gram-charlier":
         gc = {k: float(v) for k, v in gram_charlier_coefficients(wind).items()}
     return KernelParameters(
-        refractive_index=float(scene.water.refractive_index_value()),
+        refractive_index=float(water.refractive_index_value()),
         sigma2_crosswind=float(s2c),
         sigma2_upwind=float(s2u),
         wind_direction=float("nan") if surf.wind_direction is None else float(surf.wind_direction),
@@ -144,9 +148,52 @@ def sun_angles(scene, time, lat, lon):
         t = np.asarray(time)
         if np.issubdtype(t.dtype, np.datetime64):
             time = t.astype("datetime64[ms]")
-    o = scene.sun
+    return _solar_position(scene.sun, time, lat, lon)
+
+
+def _solar_position(o, time, lat, lon):
     return solar_position(time, lat, lon, elevation=o.surface_elevation, pressure=o.pressure,
                           temperature=o.air_temperature, delta_t=o.delta_t, refraction=o.refraction)
+
+
+def point_glint(time, latitude: float, longitude: float, view_zenith: float, view_azimuth: float,
+                *, surface, water, sun) -> dict:
+    """Sun position and glint for one place, time and view direction.
+
+    Parameters
+    ----------
+    time : datetime-like
+        UTC instant.
+    latitude, longitude : float
+        Place on the water [°].
+    view_zenith, view_azimuth : float
+        Direction from the water to the sensor [°], true north.
+    surface, water, sun : glint.scene.Surface, glint.scene.Water, glint.scene.SunOptions
+        Wind and slope model, water optics, sun options (as in a scene).
+
+    Returns
+    -------
+    dict
+        ``sun_zenith``, ``sun_azimuth`` [°], ``earth_sun_distance`` [AU],
+        ``refractive_index`` and, from the fused kernel, ``glint_angle``,
+        ``glint_reflectance``, ``glint_radiance``, ``glint_fraction``.
+    """
+    t = np.datetime64(time, "ns")
+    pos = _solar_position(sun, t, latitude, longitude)
+    params = _kernel_parameters(surface, water, t)
+    ang = {
+        "sun_zenith": np.array([pos.zenith], dtype=np.float32).reshape(1),
+        "sun_azimuth": np.array([pos.azimuth], dtype=np.float32).reshape(1),
+        "view_zenith": np.array([view_zenith], dtype=np.float32),
+        "view_azimuth": np.array([view_azimuth], dtype=np.float32),
+    }
+    out = _kernel_outputs(ang, params, None, ("glint_angle", "glint_reflectance", "glint_radiance",
+                                              "glint_fraction"))
+    result = {k: float(v[0]) for k, v in out.items()}
+    result.update(sun_zenith=float(pos.zenith), sun_azimuth=float(pos.azimuth),
+                  earth_sun_distance=float(earth_sun_distance(t)),
+                  refractive_index=params.refractive_index)
+    return result
 
 
 def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: bool = True) -> dict:

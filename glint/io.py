@@ -1,4 +1,4 @@
-"""Writers and readers of glint's GIS files.
+"""Writers of glint's GIS files, and the rules every output follows.
 
 Writers
 -------
@@ -15,12 +15,14 @@ removes the temporary file and leaves nothing behind.
 
 Variable names, units and CF metadata come from :data:`glint.variables.VARIABLES`.
 
-Readers
--------
-:func:`open_band` returns a lazy, picklable reader of one raster band (for
-inputs such as water masks or per-pixel wind), and :func:`check_matches_grid`
-compares a reader with a scene grid (:meth:`glint.grid.Grid.from_raster` gives
-the grid of a raster).
+Output files
+------------
+:func:`output_stem` names the files of one scene time,
+:func:`refuse_existing` refuses to replace existing outputs without
+``overwrite``, and :func:`output_directory` creates the output directory for
+a run and removes it again if the run fails before writing anything.
+
+Input rasters are read by :mod:`glint.readers`.
 """
 
 from __future__ import annotations
@@ -38,20 +40,21 @@ from typing import Any
 import numpy as np
 
 from glint import __version__
-from glint.errors import InputError, InputFileError, OutputError
+from glint.errors import InputError, OutputError
 from glint.grid import Grid
 from glint.variables import CLASS_NODATA, VARIABLES
 
 __all__ = [
+    "output_stem",
+    "refuse_existing",
+    "output_directory",
+    "prepare_outdir",
     "atomic_path",
     "check_free_space",
     "GeoTiffWriter",
     "NetCDFWriter",
     "write_dataset_geotiff",
     "write_dataset_netcdf",
-    "RasterBand",
-    "open_band",
-    "check_matches_grid",
 ]
 
 log = logging.getLogger(__name__)
@@ -213,18 +216,6 @@ def _strip_arrays(
         if a.shape != shape:
             raise InputError(f"array for {n!r} has shape {a.shape!r}; expected {shape!r}")
     return out
-
-
-def _same_crs(a: Any, b: Any) -> bool:
-    if a == b:
-        return True
-    try:
-        if a.equals(b, ignore_axis_order=True):
-            return True
-    except Exception:  # pragma: no cover - pyproj versions differ
-        pass
-    ea, eb = a.to_epsg(), b.to_epsg()
-    return ea is not None and ea == eb
 
 
 # -------------------------------------------------------------------- GeoTIFF
@@ -929,151 +920,55 @@ def write_dataset_netcdf(
     return Path(path)
 
 
-# -------------------------------------------------------------------- readers
-def _check_input_path(path: str | os.PathLike) -> str:
-    spath = os.fspath(path)
-    if "://" in spath or spath.lower().startswith(("netcdf:", "hdf5:", "/vsi")):
-        return spath
-    if not Path(spath).is_file():
-        raise InputFileError(f"input raster not found: {spath!r}")
-    return spath
+# --------------------------------------------------------------- output files
+def output_stem(scene, time) -> str:
+    """File-name stem of one scene time: ``<stem>_YYYYmmddTHHMMSSZ``.
 
-
-class RasterBand:
-    """Lazy reader of one band of a raster file.
-
-    Holds only the path and header, so it pickles and can be shared with
-    worker processes; each ``reader[rows, cols]`` opens the file, reads the
-    window as float64 with nodata replaced by NaN, and closes it.
-
-    Attributes
-    ----------
-    path : str
-    band : int
-    shape : (int, int)
-    crs : pyproj.CRS or None
-    transform : affine.Affine
-    nodata : float or None
+    The time is always part of the name, so maps of other times (a
+    ``--time`` override, a scene with several times) sit side by side.
     """
-
-    def __init__(self, path: str | os.PathLike, band: int = 1) -> None:
-        import rasterio
-        from rasterio.errors import RasterioIOError
-
-        from glint.grid import parse_crs
-
-        self.path = _check_input_path(path)
-        try:
-            with rasterio.open(self.path) as src:
-                if int(band) != band or not 1 <= band <= src.count:
-                    raise InputFileError(
-                        f"{self.path!r} has {src.count} band(s); band {band!r} does not exist"
-                    )
-                self.band = int(band)
-                self.shape = (src.height, src.width)
-                self.crs = parse_crs(src.crs) if src.crs is not None else None
-                self.transform = src.transform
-                self.nodata = src.nodatavals[self.band - 1]
-        except RasterioIOError as exc:
-            raise InputFileError(f"cannot read raster {self.path!r}: {exc}") from exc
-
-    def __getitem__(self, key: tuple[slice, slice]) -> np.ndarray:
-        """Read ``reader[row_slice, col_slice]`` as float64, nodata -> NaN.
-
-        Parameters
-        ----------
-        key : (slice, slice)
-            Rows and columns, step 1.
-
-        Returns
-        -------
-        numpy.ndarray
-            2-D float64 window.
-
-        Raises
-        ------
-        InputError
-            If ``key`` is not two step-1 slices.
-        """
-        import rasterio
-        from rasterio.windows import Window
-
-        try:
-            rows, cols = key
-            r0, r1, rs = rows.indices(self.shape[0])
-            c0, c1, cs = cols.indices(self.shape[1])
-        except (TypeError, ValueError, AttributeError) as exc:
-            raise InputError(f"index with (row_slice, col_slice); got {key!r}") from exc
-        if rs != 1 or cs != 1:
-            raise InputError(f"slices must have step 1; got {key!r}")
-        window = Window(c0, r0, max(c1 - c0, 0), max(r1 - r0, 0))
-        with rasterio.open(self.path) as src:
-            out = src.read(self.band, window=window, out_dtype="float64")
-        if self.nodata is not None and not np.isnan(self.nodata):
-            out[out == self.nodata] = np.nan
-        return out
-
-    def read(self) -> np.ndarray:
-        """The whole band as float64 (nodata -> NaN)."""
-        return self[:, :]
-
-    def __repr__(self) -> str:
-        return f"RasterBand({self.path!r}, band={self.band}, shape={self.shape})"
+    t = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("-", "").replace(":", "")
+    return f"{scene.file_stem}_{t}Z"
 
 
-def open_band(path: str | os.PathLike, band: int = 1) -> RasterBand:
-    """Open one band of a raster lazily (see :class:`RasterBand`).
+def refuse_existing(paths, overwrite: bool) -> None:
+    """OutputError naming the first of ``paths`` that exists, unless ``overwrite``."""
+    if overwrite:
+        return
+    for path in paths:
+        if path.exists():
+            raise OutputError(
+                f"output {str(path)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
 
-    Parameters
-    ----------
-    path : str or path-like
-        Raster file (or a GDAL name such as ``netcdf:file.nc:var``).
-    band : int, optional
-        1-based band number.
 
-    Returns
-    -------
-    RasterBand
-        Reader with ``shape``, ``crs``, ``transform`` and window indexing.
+@contextlib.contextmanager
+def output_directory(outdir: Path):
+    """Create ``outdir`` if needed (see :func:`prepare_outdir`) for a run;
+    if the run fails before writing anything, remove the directory again."""
+    created = prepare_outdir(outdir)
+    try:
+        yield outdir
+    except BaseException:
+        if created and not any(outdir.iterdir()):
+            outdir.rmdir()  # leave no trace of a run that wrote nothing
+        raise
 
-    Raises
-    ------
-    InputFileError
-        If the file is missing or unreadable, or the band does not exist.
+
+def prepare_outdir(outdir: Path) -> bool:
+    """Create the output directory (not its parents); OutputError if impossible.
+
+    Returns True when the directory was created by this call.
     """
-    return RasterBand(path, band)
-
-
-def check_matches_grid(reader: RasterBand, grid: Grid, name: str) -> None:
-    """Raise :class:`~glint.errors.InputFileError` unless ``reader`` lies on ``grid``.
-
-    Parameters
-    ----------
-    reader : RasterBand
-        An input opened with :func:`open_band`.
-    grid : Grid
-        The scene grid.
-    name : str
-        What the input is (``"water_mask"``), used in the message.
-
-    Raises
-    ------
-    InputFileError
-        Naming the file and listing each difference: shape, CRS, or
-        transform (compared within 1e-6 of a pixel).
-    """
-    problems = []
-    if tuple(reader.shape) != tuple(grid.shape):
-        problems.append(f"shape {tuple(reader.shape)!r} vs grid {grid.shape!r}")
-    if reader.crs is None or not _same_crs(reader.crs, grid.crs):
-        rname = None if reader.crs is None else reader.crs.name
-        problems.append(f"CRS {rname!r} vs grid {grid.crs.name!r}")
-    tol = 1e-6 * min(grid.res)
-    if not reader.transform.almost_equals(grid.transform, precision=tol):
-        problems.append(f"transform {tuple(reader.transform)[:6]!r} vs grid "
-                        f"{tuple(grid.transform)[:6]!r}")
-    if problems:
-        raise InputFileError(
-            f"{name} raster {reader.path!r} does not match the scene grid: "
-            + "; ".join(problems)
-        )
+    if outdir.exists() and not outdir.is_dir():
+        raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
+    if outdir.is_dir():
+        return False
+    try:
+        outdir.mkdir(parents=False, exist_ok=True)
+    except FileNotFoundError as exc:
+        raise OutputError(
+            f"cannot create output directory {str(outdir)!r}: its parent does not exist"
+        ) from exc
+    except PermissionError as exc:
+        raise OutputError(f"cannot create output directory {str(outdir)!r}: permission denied") from exc
+    return True

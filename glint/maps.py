@@ -17,16 +17,16 @@ from pathlib import Path
 import numpy as np
 
 from glint import compute, io, plot
-from glint.errors import InputError, OutputError, SensorError
+from glint.errors import InputError, SensorError
+from glint.scene import OUTPUT_FORMATS
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["FORMATS", "MapResult", "write_maps", "output_stem", "prepare_outdir", "output_directory",
-           "refuse_existing"]
+__all__ = ["FORMATS", "MapResult", "write_maps"]
 
 log = logging.getLogger(__name__)
 
-#: Output formats understood by :func:`write_maps`.
-FORMATS = ("geotiff", "netcdf", "png")
+#: Output formats understood by :func:`write_maps` (those of scene files).
+FORMATS = OUTPUT_FORMATS
 
 
 @dataclass
@@ -41,15 +41,6 @@ class MapResult:
         """Summary of the first time (most scenes have one)."""
         return self.summaries[0] if self.summaries else {}
 
-
-def output_stem(scene, time) -> str:
-    """File-name stem of one scene time: ``<stem>_YYYYmmddTHHMMSSZ``.
-
-    The time is always part of the name, so maps of other times (a
-    ``--time`` override, a scene with several times) sit side by side.
-    """
-    t = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("-", "").replace(":", "")
-    return f"{scene.file_stem}_{t}Z"
 
 
 def _paths(outdir: Path, stem: str, formats: Sequence[str], float_vars, class_var) -> dict[str, Path]:
@@ -124,10 +115,10 @@ def write_maps(
     needed = list(dict.fromkeys(list(variables) + ["glint_reflectance", "view_zenith", "glint_class"]))
 
     times = scene.times
-    plans = [(t, _paths(outdir, output_stem(scene, t), formats, float_vars, class_var)) for t in times]
-    refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
+    plans = [(t, _paths(outdir, io.output_stem(scene, t), formats, float_vars, class_var)) for t in times]
+    io.refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
     result = MapResult()
-    with output_directory(outdir):
+    with io.output_directory(outdir):
         io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
         for t, paths in plans:
             summary = _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog,
@@ -137,47 +128,7 @@ def write_maps(
     return result
 
 
-def refuse_existing(paths, overwrite: bool) -> None:
-    """OutputError naming the first of ``paths`` that exists, unless ``overwrite``."""
-    if overwrite:
-        return
-    for path in paths:
-        if path.exists():
-            raise OutputError(
-                f"output {str(path)!r} exists; use --overwrite (overwrite=True from Python) to replace it")
 
-
-@contextlib.contextmanager
-def output_directory(outdir: Path):
-    """Create ``outdir`` if needed (see :func:`prepare_outdir`) for a run;
-    if the run fails before writing anything, remove the directory again."""
-    created = prepare_outdir(outdir)
-    try:
-        yield outdir
-    except BaseException:
-        if created and not any(outdir.iterdir()):
-            outdir.rmdir()  # leave no trace of a run that wrote nothing
-        raise
-
-
-def prepare_outdir(outdir: Path) -> bool:
-    """Create the output directory (not its parents); OutputError if impossible.
-
-    Returns True when the directory was created by this call.
-    """
-    if outdir.exists() and not outdir.is_dir():
-        raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
-    if outdir.is_dir():
-        return False
-    try:
-        outdir.mkdir(parents=False, exist_ok=True)
-    except FileNotFoundError as exc:
-        raise OutputError(
-            f"cannot create output directory {str(outdir)!r}: its parent does not exist"
-        ) from exc
-    except PermissionError as exc:
-        raise OutputError(f"cannot create output directory {str(outdir)!r}: permission denied") from exc
-    return True
 
 
 def _estimated_bytes(scene, float_vars, class_var, formats) -> int:

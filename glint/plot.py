@@ -12,7 +12,9 @@ import numpy as np
 
 __all__ = ["quicklook", "decimation_step"]
 
-CAUTION = "Statistical estimate, not a safety clearance. Never look at the sun or its reflection."
+#: The caution printed on every quicklook and after every command.
+CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
+           "never look at the sun or its reflection.")
 
 
 def decimation_step(shape: tuple[int, int], max_pixels: int = 1200) -> int:

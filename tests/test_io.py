@@ -22,11 +22,10 @@ from glint.io import (
     NetCDFWriter,
     atomic_path,
     check_free_space,
-    check_matches_grid,
-    open_band,
     write_dataset_geotiff,
     write_dataset_netcdf,
 )
+from glint.readers import check_matches_grid, open_band
 from glint.variables import CLASS_NODATA, VARIABLES
 
 FLOATS = ["sun_zenith", "view_azimuth", "glint_reflectance"]

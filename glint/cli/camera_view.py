@@ -6,7 +6,8 @@ from pathlib import Path
 
 import click
 
-from glint.cli.map import CAUTION, format_summary
+from glint.cli.map import format_summary
+from glint.plot import CAUTION
 from glint.cli.options import (
     condition_options,
     load_with_overrides,
@@ -67,4 +68,7 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
         for line in format_summary(summary):
             click.echo(line)
     click.echo(CAUTION)
-    click.echo(FLIGHT_CAUTION)
+    from glint.sensors import FixedCamera
+
+    if not isinstance(scene.sensor, FixedCamera):  # a drone, not a shore or mast camera
+        click.echo(FLIGHT_CAUTION)

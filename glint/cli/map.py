@@ -17,16 +17,14 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
+from glint.plot import CAUTION
 from glint.scene import OUTPUT_FORMATS
 from glint.variables import VARIABLES
 
-__all__ = ["map_command", "CAUTION", "format_summary"]
+__all__ = ["map_command", "format_summary"]
 
 log = logging.getLogger(__name__)
 
-#: Printed after every map run.
-CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
-           "never look at the sun or its reflection.")
 
 _EPILOG = """\b
 Examples:

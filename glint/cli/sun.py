@@ -7,7 +7,7 @@ import math
 import click
 import numpy as np
 
-from glint.cli.map import CAUTION
+from glint.plot import CAUTION
 from glint.scene import WAVELENGTH_RANGE
 from glint.times import parse_time
 
@@ -60,17 +60,17 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
     1013.25 hPa and 12 degC); glint uses the Cox-Munk wave-slope statistics,
     sea water at 20 degC and 35 PSU, and the Fresnel reflectance.
     """
-    from glint.geometry import glint_angle
-    from glint.optics import water_refractive_index
-    from glint.reflect import glint_fraction, glint_radiance, glint_reflectance
-    from glint.sun import earth_sun_distance, solar_position, sun_solid_angle
-    from glint.surface import SLOPE_MODEL_WIND_HEIGHT, wind_speed_at_height
+    from glint.compute import point_glint
+    from glint.scene import SunOptions, Surface, Water
 
     time = parse_time(time_text, "--time")
-    pos = solar_position(time, latitude, longitude, elevation=elevation)
-    zenith = float(pos.zenith)
-    azimuth = float(pos.azimuth)
-    distance = float(earth_sun_distance(time))
+    res = point_glint(
+        time, latitude, longitude, view_zenith, view_azimuth,
+        surface=Surface(wind_speed=wind_speed, wind_direction=wind_direction, wind_height=10.0),
+        water=Water(wavelength=wavelength, temperature=20.0, salinity=35.0),
+        sun=SunOptions(surface_elevation=elevation),
+    )
+    zenith = res["sun_zenith"]
     stamp = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("T", " ")
 
     click.echo(f"Time (UTC):             {stamp}")
@@ -79,30 +79,21 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
     click.echo(f"Place:                  {abs(latitude):.5f} {ns}, {abs(longitude):.5f} {ew}, "
                f"{elevation:g} m above the ellipsoid")
     click.echo(f"Sun zenith:             {zenith:.3f} deg (refraction included)")
-    click.echo(f"Sun azimuth:            {azimuth:.3f} deg (clockwise from true north)")
+    click.echo(f"Sun azimuth:            {res['sun_azimuth']:.3f} deg (clockwise from true north)")
     click.echo(f"Sun elevation:          {90.0 - zenith:.3f} deg")
-    click.echo(f"Earth-sun distance:     {distance:.6f} AU")
+    click.echo(f"Earth-sun distance:     {res['earth_sun_distance']:.6f} AU")
     click.echo(f"View:                   zenith {view_zenith:g} deg, azimuth "
                f"{view_azimuth:g} deg (water to sensor)")
     if zenith >= 90.0:
         click.echo("The sun is below the horizon: no sun glint.")
     else:
-        n = float(water_refractive_index(wavelength, temperature=20.0, salinity=35.0))
-        wind = float(wind_speed_at_height(wind_speed, 10.0,
-                                          target_height=SLOPE_MODEL_WIND_HEIGHT["cox-munk"]))
-        args = (zenith, azimuth, view_zenith, view_azimuth, wind)
-        kw = {"wind_direction": wind_direction, "model": "cox-munk"}
-        angle = float(glint_angle(zenith, azimuth, view_zenith, view_azimuth))
-        refl = float(glint_reflectance(*args, refractive_index=n, **kw))
-        rad = float(glint_radiance(*args, refractive_index=n, **kw))
-        frac = float(glint_fraction(*args, sun_solid_angle=float(sun_solid_angle(distance)), **kw))
         wd = "unknown (isotropic)" if wind_direction is None else f"from {wind_direction:g} deg"
         click.echo(f"Wind:                   {wind_speed:g} m/s at 10 m, {wd}")
-        click.echo(f"Refractive index:       {n:.4f} at {wavelength:g} nm")
-        click.echo(f"Glint angle:            {angle:.3f} deg")
-        click.echo(f"Glint reflectance:      {_g(refl)}")
-        click.echo(f"Glint radiance L/E:     {_g(rad)} sr-1")
-        click.echo(f"Glint fraction:         {_g(frac)}")
+        click.echo(f"Refractive index:       {res['refractive_index']:.4f} at {wavelength:g} nm")
+        click.echo(f"Glint angle:            {res['glint_angle']:.3f} deg")
+        click.echo(f"Glint reflectance:      {_g(res['glint_reflectance'])}")
+        click.echo(f"Glint radiance L/E:     {_g(res['glint_radiance'])} sr-1")
+        click.echo(f"Glint fraction:         {_g(res['glint_fraction'])}")
     click.echo(CAUTION)
 
 

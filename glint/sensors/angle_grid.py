@@ -142,7 +142,7 @@ class AngleGrid:
                    azimuth_reference: Literal["true-north", "grid"] = "true-north") -> AngleGrid:
         """Read a node grid from a GeoTIFF with two bands (``azimuth=None``;
         ``azimuth_band`` default 2) or from two single-band files."""
-        from glint.io import open_band
+        from glint.readers import open_band
 
         if azimuth is None:
             azimuth, azimuth_band = zenith, (2 if azimuth_band is None else azimuth_band)
@@ -153,7 +153,7 @@ class AngleGrid:
     @classmethod
     def from_bands(cls, zenith: Any, azimuth: Any, *,
                    azimuth_reference: Literal["true-north", "grid"] = "true-north") -> AngleGrid:
-        """Build from two :class:`glint.io.RasterBand` readers, which must
+        """Build from two :class:`glint.readers.RasterBand` readers, which must
         share CRS, transform and shape."""
         if zenith.crs is None:
             raise InputFileError(f"angle grid {zenith.path!r} has no CRS")
