@@ -136,7 +136,7 @@ def warn_outside(value: Any, name: str, low: float, high: float, what: str) -> N
     bad = finite[(finite < low) | (finite > high)]
     if bad.size:
         warnings.warn(
-            f"{name}={float(bad.flat[0])!r} lies outside [{low:g}, {high:g}], the range "
+            f"{name}={float(bad.flat[0]):.6g} lies outside [{low:g}, {high:g}], the range "
             f"of {what}; the result is an extrapolation",
             ValidityWarning,
             stacklevel=user_stacklevel(),
