@@ -173,7 +173,7 @@ def slope_variances(
     to 0.003 + 5.08e-3 W, within 1 %), W at 12.5 m.
     * ``cox-munk-slick``: 0.003 + 0.84e-3 W, 0.005 + 0.78e-3 W, W at 12.5 m.
     * ``breon-henriot``: 3e-3 + 1.85e-3 W, 1e-3 + 3.16e-3 W, W at 10 m
-      (coefficients from memory; check against the paper).
+      (coefficients from memory, not checked against the paper).
 
     ``wu`` gives the total mean square slope in two log-linear regimes (from
     memory): :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
