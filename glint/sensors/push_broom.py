@@ -261,11 +261,6 @@ class PushBroom:
         _, across = self.track.project(self.centre_lon, self.centre_lat)
         return float(np.copysign(180.0 - vz, -across))
 
-    def imaging_offset(self, lon: Any, lat: Any) -> np.ndarray:
-        """Seconds after the centre time at which points are imaged."""
-        along, _ = self.track.project(lon, lat)
-        return along * self.track.radius / self.ground_speed
-
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles and imaging times; ``time`` is used when no centre time was given."""
         t0 = self.centre_time if self.centre_time is not None else time
