@@ -9,7 +9,7 @@ points further along the track are imaged later.
 
 from __future__ import annotations
 
-from typing import Any, Literal
+from typing import Literal
 
 import numpy as np
 
