@@ -120,7 +120,11 @@ def _kernel_parameters(surf, water, time) -> KernelParameters:
     s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(wind, model=surf.slope_model))
     gc = None
     if surf.distribution == "gram-charlier":
-        gc = {k: float(v) for k, v in gram_charlier_coefficients(wind).items()}
+        # Cox and Munk's skewness and kurtosis fits use their 12.5 m wind,
+        # whichever model gives the variances.
+        w_cm = float(wind_speed_at_height(surf.wind_speed, surf.wind_height,
+                                          target_height=SLOPE_MODEL_WIND_HEIGHT["cox-munk"]))
+        gc = {k: float(v) for k, v in gram_charlier_coefficients(w_cm).items()}
     return KernelParameters(
         refractive_index=float(water.refractive_index_value()),
         sigma2_crosswind=float(s2c),
