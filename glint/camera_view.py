@@ -151,6 +151,10 @@ def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) 
 def _write_one_view(scene, cam, t, paths: dict, step: int, overwrite: bool, files: list) -> dict:
     """Compute and write the camera view of one time; returns its summary."""
     ds = camera_view(scene, time=t, step=step)
+    if ds.attrs["unseen_pixels"] == ds.glint_class.size:
+        raise SensorError(
+            f"no pixel of the camera image sees the water (pitch={cam.pitch!r} deg, "
+            f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
     summary = _summary(ds, scene, t)
     _write_netcdf(ds, scene, paths["netcdf"], overwrite, step)
     with io.atomic_path(paths["png"], overwrite=overwrite) as tmp:

@@ -129,3 +129,11 @@ def test_cli_heading_and_pitch_override(tmp_path):
     assert r1.exit_code == 0 and r2.exit_code == 0, r1.output + r2.output
     assert "severe 0.0 %" not in r1.output
     assert "severe 0.0 %" in r2.output
+
+
+def test_camera_seeing_only_sky_is_an_error(tmp_path):
+    scene = load_scene(EXAMPLES / "drone_cove_survey.toml", **{"sensor.pitch": 30.0})
+    out = tmp_path / "out"
+    with pytest.raises(SensorError, match="no pixel of the camera image sees the water"):
+        cv.write_camera_view(scene, out, step=20)
+    assert not out.exists()
