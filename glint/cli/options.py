@@ -9,6 +9,7 @@ from typing import Any
 
 import click
 
+from glint.errors import SceneError
 from glint.scene import Scene, load_scene
 
 __all__ = ["scene_argument", "output_option", "overwrite_option", "condition_options",
@@ -49,5 +50,14 @@ def load_with_overrides(scene_file: Path, wind_speed: float | None, wind_directi
     time_override: Any = None
     if times:
         time_override = list(times) if len(times) > 1 else times[0]
-    return load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
-                      time=time_override, **extra)
+    try:
+        return load_scene(scene_file, wind_speed=wind_speed, wind_direction=wind_direction,
+                          time=time_override, **extra)
+    except SceneError as exc:
+        if not times:
+            raise
+        # A bad --time is the command line's fault, not the file's: say so.
+        problems = [("--time" + p[len("scene.times"):]) if p.startswith("scene.times") else
+                    ("--time" + p[len("scene.time"):]) if p.startswith("scene.time:") else p
+                    for p in exc.problems]
+        raise SceneError(problems, exc.source) from None
