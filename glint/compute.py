@@ -254,8 +254,7 @@ def _check_axes(node_axis: np.ndarray, around: int | None) -> np.ndarray:
     """
     n = len(node_axis)
     if around is None:
-        ci = np.unique(np.linspace(0, n - 2, min(_CHECK_CELLS, n - 1)).round().astype(int))
-        return 0.5 * (node_axis[ci] + node_axis[ci + 1])
+        return _grid.cell_centres(node_axis, _CHECK_CELLS)
     lo, hi = max(around - 3, 0), min(around + 3, n - 1)
     seg = node_axis[lo:hi + 1]
     mids = 0.5 * (seg[:-1] + seg[1:])
@@ -283,12 +282,7 @@ def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> Geometr
     g = scene.grid
     smooth = bool(getattr(scene.sensor, "smooth", False))
     tol = float(scene.tie_point_tolerance)
-    for step in steps:
-        if step >= max(g.shape):
-            continue
-        node_rows, node_cols = g.nodes(step)
-        if len(node_rows) < 2 or len(node_cols) < 2:
-            continue
+    for step, node_rows, node_cols in g.lattices(steps):
         nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
         nodes = _exact_angles(scene, time, nr, nc, views=smooth)
         checks = [(_check_axes(node_rows, None), _check_axes(node_cols, None))]

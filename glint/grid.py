@@ -47,6 +47,7 @@ __all__ = [
     "interpolate_nodes",
     "interpolate_azimuth_nodes",
     "LONLAT_TOLERANCE",
+    "cell_centres",
 ]
 
 #: Largest error [°] allowed when :meth:`Grid.lonlat_rows` interpolates
@@ -838,6 +839,16 @@ class Grid:
         c0, c1, _ = (col_slice or slice(None)).indices(self.width)
         return Window(c0, r0, c1 - c0, r1 - r0)
 
+    def lattices(self, steps) -> Iterator[tuple[int, np.ndarray, np.ndarray]]:
+        """``(step, node_rows, node_cols)`` for each spacing in ``steps`` that
+        gives a lattice of at least 2 x 2 nodes (coarser ones are skipped)."""
+        for step in steps:
+            if step >= max(self.shape):
+                continue
+            node_rows, node_cols = self.nodes(step)
+            if len(node_rows) >= 2 and len(node_cols) >= 2:
+                yield step, node_rows, node_cols
+
     def nodes(self, step: int) -> tuple[np.ndarray, np.ndarray]:
         """Row and column indices of a tie-point lattice.
 
@@ -923,21 +934,12 @@ def _lonlat_lattice(grid: Grid) -> tuple[np.ndarray, ...] | None:
     """Node lattice of lon/lat meeting :data:`LONLAT_TOLERANCE`, or None."""
     if grid.crs.is_geographic:
         return None
-    for step in (64, 32, 16, 8):
-        if step >= max(grid.shape):
-            continue
-        node_rows, node_cols = grid.nodes(step)
-        if len(node_rows) < 2 or len(node_cols) < 2:
-            continue
+    for _, node_rows, node_cols in grid.lattices((64, 32, 16, 8)):
         rr, cc = np.meshgrid(node_rows, node_cols, indexing="ij")
         lon, lat = grid.lonlat(*grid.xy(rr, cc))
         if not (np.all(np.isfinite(lon)) and np.all(np.isfinite(lat))):
             return None
-        checks = []
-        for axis in (node_rows, node_cols):
-            k = np.unique(np.linspace(0, len(axis) - 2, min(400, len(axis) - 1)).round().astype(int))
-            checks.append(0.5 * (axis[k] + axis[k + 1]))
-        mr, mc = checks
+        mr, mc = cell_centres(node_rows), cell_centres(node_cols)
         exact_lon, exact_lat = grid.lonlat(*grid.xy(*np.meshgrid(mr, mc, indexing="ij")))
         approx_lon = interpolate_azimuth_nodes(np.mod(lon, 360.0), node_rows, node_cols, mr, mc)
         approx_lat = interpolate_nodes(lat, node_rows, node_cols, mr, mc)
@@ -946,6 +948,15 @@ def _lonlat_lattice(grid: Grid) -> tuple[np.ndarray, ...] | None:
         if err <= 0.8 * LONLAT_TOLERANCE:
             return node_rows, node_cols, np.mod(lon, 360.0), lat
     return None
+
+
+def cell_centres(node_axis: np.ndarray, max_cells: int = 400) -> np.ndarray:
+    """Centres of the cells along one node axis: of every cell, or of
+    ``max_cells`` evenly spread cells on longer axes. These are the points
+    farthest from the nodes, where interpolation is checked."""
+    n = len(node_axis)
+    k = np.unique(np.linspace(0, n - 2, min(max_cells, n - 1)).round().astype(int))
+    return 0.5 * (node_axis[k] + node_axis[k + 1])
 
 
 def _node_axis(n: int, step: int) -> np.ndarray:
