@@ -11,7 +11,7 @@ realistic float32 angle arrays (sun zenith 20-70°, sun azimuth 90-270°, view
 zenith 0-45°, any view azimuth; wind 6 m/s from 120°). Reported:
 
 * speed in Mpx/s: the fused kernel after warm-up, best of ``--repeat-fused``
-  runs into preallocated outputs (the way ``glint.compute`` calls it); the
+  runs into preallocated outputs (the way ``glint.engine.compute`` calls it); the
   textbook chain, best of ``--repeat-textbook`` runs;
 * peak memory: each variant runs once more in a fresh Python subprocess that
   creates the same inputs, resets the kernel's high-water mark of resident
@@ -48,7 +48,7 @@ sys.path.insert(0, str(Path(__file__).resolve().parent))
 
 from textbook_kernel import textbook_glint  # noqa: E402
 
-from glint.reflect import KERNEL_OUTPUTS, glint_kernel, warmup  # noqa: E402
+from glint.physics.reflect import KERNEL_OUTPUTS, glint_kernel, warmup  # noqa: E402
 
 PARAMS = {
     "refractive_index": 1.34,

@@ -1,6 +1,6 @@
 """Benchmark: sun position over a grid of pixels at one time.
 
-glint.sun.solar_position (time-only SPA terms once, observer terms in a
+glint.physics.sun.solar_position (time-only SPA terms once, observer terms in a
 compiled loop per pixel) against pvlib's ``spa_python`` (numpy mode) called
 per point with the timestamp repeated, which recomputes every time-only term
 per pixel. pvlib runs on a random subsample and its per-pixel rate is scaled
@@ -19,7 +19,7 @@ import time
 import numba
 import numpy as np
 
-from glint import sun
+from glint.physics import sun
 
 TARGET_RATIO = 50.0
 TARGET_DIFF = 1e-4  # degrees
@@ -118,7 +118,7 @@ def main(argv: list[str] | None = None) -> int:
     ok_diff = max(dz, da) <= TARGET_DIFF
     print(f"sun position, {lat.shape[0]} x {lat.shape[1]} = {n} pixels at one "
           f"time ({SURVEY_TIME} UTC), site {SITE_LAT} N {SITE_LON} E")
-    print(f"  glint.sun.solar_position : {t_ours * 1e3:9.1f} ms  {ours_rate:8.2f} Mpx/s"
+    print(f"  glint.physics.sun.solar_position : {t_ours * 1e3:9.1f} ms  {ours_rate:8.2f} Mpx/s"
           f"  (best of {args.repeats}, {numba.get_num_threads()} threads)")
     print(f"  numpy reference path      : {t_np * 1e3:9.1f} ms  {n / t_np / 1e6:8.2f} Mpx/s")
     print(f"  pvlib spa_python per point: {t_pv * 1e3:9.1f} ms for {m} points "

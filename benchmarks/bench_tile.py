@@ -4,7 +4,7 @@ Usage: python benchmarks/bench_tile.py [--size 10980] [--variables ...]
 
 Two measurements, each in a fresh process so that peak memory is its own:
 
-* end-to-end: ``glint.maps.write_maps`` for a scene on the tile (tie-point
+* end-to-end: ``glint.workflows.maps.write_maps`` for a scene on the tile (tie-point
   geometry, fused kernel, strips of 512 rows written as they are computed,
   overviews), GeoTIFF only;
 * the I/O floor: the same bands, computed beforehand and held in memory,
@@ -54,14 +54,14 @@ def _peak_gb() -> float:
 
 def _warm_up() -> None:
     """Compile the kernels on a tiny scene (numba), so timing excludes it."""
-    from glint import compute
+    from glint.engine import compute
 
     for _ in compute.iter_blocks(_scene(300)):
         pass
 
 
 def run_end_to_end(size: int, variables: list[str], outdir: Path) -> dict:
-    from glint import maps
+    from glint.workflows import maps
 
     _warm_up()
     scene = _scene(size)
@@ -79,7 +79,7 @@ def run_floor(size: int, variables: list[str], outdir: Path) -> dict:
     from rasterio.enums import Resampling
     from rasterio.windows import Window
 
-    from glint import compute
+    from glint.engine import compute
 
     _warm_up()
     scene = _scene(size)
@@ -140,7 +140,7 @@ def main() -> int:
     ratio = e2e["seconds"] / floor["seconds"]
     print(f"I/O floor (rasterio writes precomputed bands): {floor['seconds']:.2f} s, "
           f"{floor['bytes'] / 1e6:.0f} MB")
-    print(f"end-to-end (glint.maps.write_maps):            {e2e['seconds']:.2f} s, "
+    print(f"end-to-end (glint.workflows.maps.write_maps):            {e2e['seconds']:.2f} s, "
           f"{e2e['bytes'] / 1e6:.0f} MB, tie-point step {e2e['step']} px, "
           f"{mpx / e2e['seconds']:.1f} Mpx/s")
     print(f"end-to-end / I/O floor: {ratio:.2f}x (target <= {RATIO_TARGET})  "

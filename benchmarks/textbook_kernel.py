@@ -2,7 +2,7 @@
 
 A plain chain of whole-array numpy operations in float32, written the way the
 formulas read (docs/theory.md): every step allocates a full-size temporary.
-It computes the same four outputs as :func:`glint.reflect.glint_kernel` for
+It computes the same four outputs as :func:`glint.physics.reflect.glint_kernel` for
 an isotropic or anisotropic Gaussian sea without shadowing, and is kept only
 as the yardstick for ``benchmarks/bench_kernel.py``.
 """
@@ -28,7 +28,7 @@ def textbook_glint(
 ) -> dict[str, np.ndarray]:
     """Glint angle, reflectance, radiance and fraction with plain numpy.
 
-    Parameters and outputs as :func:`glint.reflect.glint_kernel` (Gaussian
+    Parameters and outputs as :func:`glint.physics.reflect.glint_kernel` (Gaussian
     slopes, no shadowing). Arithmetic in float32.
     """
     f = np.float32

@@ -1,8 +1,8 @@
 """glint: per-pixel prediction of sun glint on water.
 
-The physics layer (``glint.sun``, ``glint.optics``, ``glint.surface``,
-``glint.geometry``, ``glint.reflect``) is pure numpy and usable on its own;
-``glint.grid``, ``glint.scene``, ``glint.compute`` and ``glint.io`` turn it
+The physics layer (``glint.physics.sun``, ``glint.physics.optics``, ``glint.physics.surface``,
+``glint.physics.facets``, ``glint.physics.reflect``) is pure numpy and usable on its own;
+``glint.geo.grid``, ``glint.scene``, ``glint.engine.compute`` and ``glint.io.writers`` turn it
 into georeferenced maps.
 
 Glint maps are statistical estimates of how bright the water surface can
@@ -14,7 +14,8 @@ from __future__ import annotations
 
 import logging
 
-__version__ = "0.1.0"
+from glint._version import __version__
+
 __all__ = ["__version__"]
 
 logging.getLogger(__name__).addHandler(logging.NullHandler())

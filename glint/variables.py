@@ -1,7 +1,7 @@
 """The one table of glint's per-pixel output variables.
 
-Names, units and CF metadata of every variable that :mod:`glint.compute`
-produces and :mod:`glint.io` writes. Writers and plots read this table; no
+Names, units and CF metadata of every variable that :mod:`glint.engine.compute`
+produces and :mod:`glint.io.writers` writes. Writers and plots read this table; no
 other module spells out units or standard names.
 """
 

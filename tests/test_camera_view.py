@@ -1,4 +1,4 @@
-"""Tests of glint.camera_view and ``glint camera-view``: glint in a camera's
+"""Tests of glint.workflows.camera_view and ``glint camera-view``: glint in a camera's
 own image coordinates. Checks use plain geometry (common practice) and the
 grid-map path of the same scene."""
 
@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from glint import camera_view as cv
+from glint.workflows import camera_view as cv
 from glint.cli.main import cli
 from glint.errors import SensorError
 from glint.scene import load_scene, scene_from_dict
@@ -50,7 +50,7 @@ def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path):
 def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path):
     """Two paths to the same physics: the camera-image value at a pixel equals
     the kernel at that pixel's ground point with the sensor's view angles."""
-    from glint import compute
+    from glint.engine import compute
     from glint.sensors import GroundPoints
 
     scene = _camera_scene(tmp_path, pitch=-70.0)

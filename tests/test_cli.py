@@ -297,12 +297,12 @@ def test_map_bad_choice(runner, tmp_path, scene_file, option, value):
 
 
 # --------------------------------------------------------------------------
-# glint map: writing (needs glint.maps)
+# glint map: writing (needs glint.workflows.maps)
 # --------------------------------------------------------------------------
 
 
 def _map(runner, scene_file, outdir, *extra):
-    pytest.importorskip("glint.maps")
+    pytest.importorskip("glint.workflows.maps")
     return runner.invoke(cli, ["map", str(scene_file), "-o", str(outdir), *extra])
 
 

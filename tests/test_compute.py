@@ -1,4 +1,4 @@
-"""Tests of glint.compute: the block-wise scene computation.
+"""Tests of glint.engine.compute: the block-wise scene computation.
 
 Outside references: pvlib's SPA (sun angles at single pixels), pyproj (pixel
 lon/lat), plain geometry (where a nadir sensor sees the sun's mirror image),
@@ -10,9 +10,9 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
-from glint import compute
+from glint.engine import compute
 from glint.errors import InputError
-from glint.reflect import glint_reflectance
+from glint.physics.reflect import glint_reflectance
 from glint.scene import scene_from_dict
 from glint.variables import CLASS_NODATA
 
@@ -142,7 +142,7 @@ def test_reflectance_matches_physics_functions(tmp_path):
     scene = _scene(tmp_path)
     ds = compute.compute_dataset(scene)
     p = compute.kernel_parameters(scene, scene.times[0])
-    from glint.surface import SLOPE_MODEL_WIND_HEIGHT, wind_speed_at_height
+    from glint.physics.surface import SLOPE_MODEL_WIND_HEIGHT, wind_speed_at_height
 
     w = wind_speed_at_height(5.0, 10.0, target_height=SLOPE_MODEL_WIND_HEIGHT["cox-munk"])
     ref = glint_reflectance(
@@ -224,7 +224,7 @@ def test_unknown_variable_named(tmp_path):
 
 @pytest.mark.filterwarnings("ignore::glint.errors.ValidityWarning")
 def test_calm_water_matches_reference_function(tmp_path):
-    """Zero wind: the kernel path agrees with glint.reflect's reference
+    """Zero wind: the kernel path agrees with glint.physics.reflect's reference
     function, which floors the slope variances (calm water stays finite)."""
     scene = _scene(tmp_path, {"kind": "fixed-direction", "view_zenith": 20.0, "view_azimuth": 300.0},
                    surface={"wind_speed": 0.0})
@@ -268,7 +268,7 @@ def test_per_pixel_times_rounded_to_ms_stay_exact(tmp_path, rng):
     """Line-scanner style per-pixel times: rounding to whole milliseconds
     moves the sun by less than 5e-6 deg (it moves < 0.0042 deg/s; common
     practice: 360 deg per sidereal day)."""
-    from glint.sun import solar_position
+    from glint.physics.sun import solar_position
 
     scene = _scene(tmp_path)
     base = np.datetime64("2026-06-14T10:30:00", "ns")

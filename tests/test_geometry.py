@@ -1,4 +1,4 @@
-"""Tests of glint.geometry: the facet that mirrors the sun into the sensor."""
+"""Tests of glint.physics.facets: the facet that mirrors the sun into the sensor."""
 
 from __future__ import annotations
 
@@ -7,7 +7,7 @@ import pytest
 from pyproj import Geod
 
 from glint.errors import InputError
-from glint.geometry import FacetGeometry, facet_geometry, glint_angle, relative_azimuth
+from glint.physics.facets import FacetGeometry, facet_geometry, glint_angle, relative_azimuth
 
 # A unit sphere: Geod.inv then returns great-circle angles in radians, an
 # independent way to measure the angle between two directions given by

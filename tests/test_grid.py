@@ -1,4 +1,4 @@
-"""Tests of glint.grid against pyproj, rasterio and published UTM rules."""
+"""Tests of glint.geo.grid against pyproj, rasterio and published UTM rules."""
 
 from __future__ import annotations
 
@@ -15,7 +15,7 @@ from pyproj.aoi import AreaOfInterest
 from pyproj.database import query_utm_crs_info
 
 from glint.errors import GridError, InputFileError
-from glint.grid import (
+from glint.geo.grid import (
     Block,
     Grid,
     interpolate_azimuth_nodes,
@@ -481,7 +481,7 @@ def test_lonlat_rows_match_pyproj(crs, bounds):
     outside reference) within LONLAT_TOLERANCE, also next to 180 deg."""
     from pyproj import Transformer
 
-    from glint.grid import LONLAT_TOLERANCE
+    from glint.geo.grid import LONLAT_TOLERANCE
 
     g = Grid.from_bounds(bounds, 20.0, crs)
     lon, lat = g.lonlat_rows(100, 300)

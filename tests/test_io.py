@@ -1,4 +1,4 @@
-"""Tests of glint.io: files read back by rasterio/GDAL, netCDF4, xarray,
+"""Tests of glint.io.writers: files read back by rasterio/GDAL, netCDF4, xarray,
 rio-cogeo and the IOOS compliance-checker."""
 
 from __future__ import annotations
@@ -16,8 +16,8 @@ from affine import Affine
 from pyproj import CRS, Transformer
 
 from glint.errors import InputError, InputFileError, OutputError
-from glint.grid import Grid
-from glint.io import (
+from glint.geo.grid import Grid
+from glint.io.writers import (
     GeoTiffWriter,
     NetCDFWriter,
     atomic_path,
@@ -25,7 +25,7 @@ from glint.io import (
     write_dataset_geotiff,
     write_dataset_netcdf,
 )
-from glint.readers import check_matches_grid, open_band
+from glint.geo.readers import check_matches_grid, open_band
 from glint.variables import CLASS_NODATA, VARIABLES
 
 FLOATS = ["sun_zenith", "view_azimuth", "glint_reflectance"]
@@ -222,12 +222,12 @@ def test_unwritable_directory(tmp_path, small_grid):
 
 def test_unwritable_directory_reported(tmp_path, small_grid, monkeypatch):
     # Works as root too: the probe file cannot be created.
-    import glint.io
+    import glint.io.writers
 
     def refuse(*args, **kwargs):
         raise PermissionError(13, "Permission denied")
 
-    monkeypatch.setattr(glint.io, "open", refuse, raising=False)
+    monkeypatch.setattr(glint.io.writers, "open", refuse, raising=False)
     with pytest.raises(OutputError, match="not writable") as info:
         NetCDFWriter(tmp_path / "out.nc", small_grid, ["glint_fraction"]).open()
     assert str(tmp_path) in str(info.value)

@@ -1,4 +1,4 @@
-"""Tests of glint.maps: the main job writes every format from one pass, and
+"""Tests of glint.workflows.maps: the main job writes every format from one pass, and
 leaves nothing behind when it fails. Files are read back with rasterio/GDAL
 and netCDF4 (outside readers)."""
 
@@ -11,7 +11,8 @@ import numpy as np
 import pytest
 import rasterio
 
-from glint import compute, maps
+from glint.engine import compute
+from glint.workflows import maps
 from glint.errors import OutputError
 from glint.scene import load_scene
 

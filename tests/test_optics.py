@@ -1,4 +1,4 @@
-"""Tests of glint.optics against published values and independent formulas."""
+"""Tests of glint.physics.optics against published values and independent formulas."""
 
 from __future__ import annotations
 
@@ -10,7 +10,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from glint.errors import InputError, ValidityWarning
-from glint.optics import (
+from glint.physics.optics import (
     _iapws,
     air_refractive_index,
     fresnel_amplitudes,

@@ -1,4 +1,4 @@
-"""Tests of glint.reflect: reference glint formulas and the fused kernel."""
+"""Tests of glint.physics.reflect: reference glint formulas and the fused kernel."""
 
 from __future__ import annotations
 
@@ -10,17 +10,17 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from scipy.integrate import simpson
 
-from glint import reflect, surface
+from glint.physics import reflect, surface
 from glint.errors import InputError
-from glint.geometry import facet_geometry
-from glint.reflect import (
+from glint.physics.facets import facet_geometry
+from glint.physics.reflect import (
     KERNEL_OUTPUTS,
     glint_fraction,
     glint_kernel,
     glint_radiance,
     glint_reflectance,
 )
-from glint.sun import sun_solid_angle
+from glint.physics.sun import sun_solid_angle
 
 OMEGA_SUN = float(sun_solid_angle(1.0))
 N_WATER = 1.34
@@ -29,7 +29,7 @@ N_WATER = 1.34
 def fresnel_snell(theta_deg, n):
     """Unpolarised Fresnel reflectance from the sine and tangent forms of the
     Fresnel equations with Snell's law (Born and Wolf, Principles of Optics,
-    sect. 1.5.2), written independently of glint.optics."""
+    sect. 1.5.2), written independently of glint.physics.optics."""
     ti = np.radians(np.asarray(theta_deg, dtype=float))
     tt = np.arcsin(np.sin(ti) / n)
     with np.errstate(invalid="ignore", divide="ignore"):

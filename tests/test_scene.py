@@ -627,7 +627,7 @@ def test_time_override_moves_a_push_broom_pass():
     a different sun (an hour later the sun is higher in the late morning)."""
     from pathlib import Path
 
-    from glint import compute
+    from glint.engine import compute
     from glint.scene import load_scene
 
     f = Path(__file__).resolve().parents[1] / "example_scenes" / "satellite_swath_windfarm.toml"

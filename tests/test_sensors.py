@@ -8,7 +8,7 @@ import pytest
 from pyproj import Geod, Transformer
 
 from glint.errors import SceneError, SensorError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 from glint.sensors import (
     SENSOR_KINDS,
     FixedDirection,

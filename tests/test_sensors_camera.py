@@ -7,7 +7,7 @@ import pytest
 from pyproj import Geod
 
 from glint.errors import SceneError, SensorError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 from glint.sensors import (
     FixedCamera,
     FrameCamera,

@@ -7,7 +7,7 @@ import pytest
 from pyproj import Geod
 
 from glint.errors import SceneError, SensorError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 from glint.sensors import GroundPoints, LineScanner, PushBroom, sensor_from_table
 from glint.sensors.base import local_radius
 from glint.sensors.push_broom import GM_EARTH, circular_orbit_ground_speed, ground_track_heading

@@ -8,7 +8,7 @@ import rasterio
 from affine import Affine
 
 from glint.errors import SceneError, SensorError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 from glint.sensors import AngleGrid, AngleRasters, GroundPoints, sensor_from_table
 from glint.sensors.angle_grid import bilinear_at_points
 

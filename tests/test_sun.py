@@ -1,4 +1,4 @@
-"""Tests of glint.sun against the SPA report's worked example, pvlib and
+"""Tests of glint.physics.sun against the SPA report's worked example, pvlib and
 published facts about the sun."""
 
 from __future__ import annotations
@@ -12,7 +12,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
-from glint import sun, times
+from glint import times
+from glint.physics import sun
 from glint.errors import InputError, ValidityWarning
 
 pd = pytest.importorskip("pandas")

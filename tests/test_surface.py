@@ -1,4 +1,4 @@
-"""Tests of glint.surface against published laws and numerical quadrature."""
+"""Tests of glint.physics.surface against published laws and numerical quadrature."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from scipy import integrate, special
 
 from glint.errors import InputError, ValidityWarning
-from glint.surface import (
+from glint.physics.surface import (
     SLOPE_MODEL_WIND_HEIGHT,
     SLOPE_MODELS,
     anisotropic_gaussian_pdf,

@@ -7,7 +7,7 @@ from pathlib import Path
 import click
 
 from glint.cli.map import format_summary
-from glint.plot import CAUTION
+from glint.io.quicklook import CAUTION
 from glint.cli.options import (
     condition_options,
     load_with_overrides,
@@ -56,7 +56,7 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
     it, a NetCDF of every variable in image coordinates (with the lon/lat of
     each pixel's ground point) and a GeoJSON of the image's ground footprint.
     """
-    from glint.camera_view import write_camera_view
+    from glint.workflows.camera_view import write_camera_view
 
     scene = load_with_overrides(scene_file, wind_speed, wind_direction, times,
                                 **{"sensor.heading": heading, "sensor.pitch": pitch})

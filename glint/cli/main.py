@@ -7,7 +7,7 @@ import warnings
 
 import click
 
-from glint import __version__
+from glint._version import __version__
 from glint.errors import (
     GlintError,
     GridError,

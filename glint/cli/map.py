@@ -17,7 +17,7 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
-from glint.plot import CAUTION
+from glint.io.quicklook import CAUTION
 from glint.scene import OUTPUT_FORMATS
 from glint.variables import VARIABLES
 
@@ -101,7 +101,7 @@ def map_command(scene_file: Path, outdir: Path, formats: tuple[str, ...],
     the glint classes, a CF-NetCDF file and a PNG quicklook (as selected),
     then prints the files and a short summary.
     """
-    from glint.maps import write_maps
+    from glint.workflows.maps import write_maps
 
     scene = load_with_overrides(scene_file, wind_speed, wind_direction, times)
     log.info("scene %r: %d time(s), grid %s x %s", scene.name, len(scene.times),

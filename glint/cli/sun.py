@@ -7,7 +7,7 @@ import math
 import click
 import numpy as np
 
-from glint.plot import CAUTION
+from glint.io.quicklook import CAUTION
 from glint.scene import WAVELENGTH_RANGE
 from glint.times import parse_time
 
@@ -60,7 +60,7 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
     1013.25 hPa and 12 degC); glint uses the Cox-Munk wave-slope statistics,
     sea water at 20 degC and 35 PSU, and the Fresnel reflectance.
     """
-    from glint.compute import point_glint
+    from glint.engine.compute import point_glint
     from glint.scene import SunOptions, Surface, Water
 
     time = parse_time(time_text, "--time")

@@ -14,7 +14,7 @@ from typing import Any, Literal
 import numpy as np
 from pyproj import Transformer
 
-from glint._units import wrap_azimuth
+from glint.validation import wrap_azimuth
 from glint.errors import GridError, InputFileError, SensorError
 from glint.sensors.angle_rasters import _build_pair
 from glint.sensors.base import GroundPoints, TableReader, ViewAngles, register_sensor_kind
@@ -76,7 +76,7 @@ class AngleGrid:
     zenith, azimuth : array_like, shape (n_rows, n_cols)
         View zenith and view azimuth [°] at the nodes; at least 2 x 2 nodes,
         both the same shape. NaN marks nodes without a value.
-    crs : anything :func:`glint.grid.parse_crs` accepts
+    crs : anything :func:`glint.geo.grid.parse_crs` accepts
         CRS of the node grid.
     transform : affine.Affine
         North-up transform of the node grid: node ``(i, j)`` sits at
@@ -118,7 +118,7 @@ class AngleGrid:
 
     def __init__(self, zenith: Any, azimuth: Any, crs: Any, transform: Any, *,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
-        from glint.grid import Grid
+        from glint.geo.grid import Grid
 
         z, a = np.asarray(zenith, float), np.asarray(azimuth, float)
         if z.ndim != 2 or z.shape != a.shape:
@@ -142,7 +142,7 @@ class AngleGrid:
                    azimuth_reference: Literal["true-north", "grid"] = "true-north") -> AngleGrid:
         """Read a node grid from a GeoTIFF with two bands (``azimuth=None``;
         ``azimuth_band`` default 2) or from two single-band files."""
-        from glint.readers import open_band
+        from glint.geo.readers import open_band
 
         if azimuth is None:
             azimuth, azimuth_band = zenith, (2 if azimuth_band is None else azimuth_band)
@@ -153,7 +153,7 @@ class AngleGrid:
     @classmethod
     def from_bands(cls, zenith: Any, azimuth: Any, *,
                    azimuth_reference: Literal["true-north", "grid"] = "true-north") -> AngleGrid:
-        """Build from two :class:`glint.readers.RasterBand` readers, which must
+        """Build from two :class:`glint.geo.readers.RasterBand` readers, which must
         share CRS, transform and shape."""
         if zenith.crs is None:
             raise InputFileError(f"angle grid {zenith.path!r} has no CRS")

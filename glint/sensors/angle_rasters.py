@@ -12,7 +12,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from glint._units import wrap_azimuth
+from glint.validation import wrap_azimuth
 from glint.errors import InputFileError, SensorError
 from glint.sensors.base import GroundPoints, TableReader, ViewAngles, register_sensor_kind
 from glint.sensors.fixed_direction import AZIMUTH_REFERENCES
@@ -25,12 +25,12 @@ class AngleRasters:
 
     Parameters
     ----------
-    zenith, azimuth : glint.readers.RasterBand
-        Lazy band readers (:func:`glint.readers.open_band`) of view zenith and view
+    zenith, azimuth : glint.geo.readers.RasterBand
+        Lazy band readers (:func:`glint.geo.readers.open_band`) of view zenith and view
         azimuth [°].
-    grid : glint.grid.Grid
+    grid : glint.geo.grid.Grid
         The scene grid; both rasters must match it
-        (:func:`glint.readers.check_matches_grid`).
+        (:func:`glint.geo.readers.check_matches_grid`).
     azimuth_reference : {"true-north", "grid"}, optional
         North of the azimuth raster: true north (default) or the scene grid's
         north, converted per pixel with the meridian convergence.
@@ -53,7 +53,7 @@ class AngleRasters:
 
     def __init__(self, zenith: Any, azimuth: Any, grid: Any, *,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
-        from glint.readers import check_matches_grid
+        from glint.geo.readers import check_matches_grid
 
         if azimuth_reference not in AZIMUTH_REFERENCES:
             raise SensorError(f"azimuth_reference must be one of {AZIMUTH_REFERENCES!r}; "
@@ -69,7 +69,7 @@ class AngleRasters:
                    azimuth_reference: Literal["true-north", "grid"] = "true-north") -> AngleRasters:
         """Open the rasters; ``azimuth=None`` reads both bands from ``zenith``'s file
         (``azimuth_band`` default 2)."""
-        from glint.readers import open_band
+        from glint.geo.readers import open_band
 
         if azimuth is None:
             azimuth, azimuth_band = zenith, (2 if azimuth_band is None else azimuth_band)
@@ -114,7 +114,7 @@ def _build(r: TableReader) -> AngleRasters | None:
 
 def _build_pair(r: TableReader, make: Any, *, need_grid: bool) -> Any:
     """Shared reading of ``file`` | ``zenith_file`` + ``azimuth_file`` and bands."""
-    from glint.readers import open_band
+    from glint.geo.readers import open_band
 
     ref = r.choice("azimuth_reference", AZIMUTH_REFERENCES, default="true-north")
     zb = r.integer("zenith_band", default=1)

@@ -23,7 +23,7 @@ from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
 
-from glint._units import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
+from glint.validation import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
 from glint.errors import GlintError, SceneError, SensorError
 from glint.times import parse_time
 
@@ -74,7 +74,7 @@ class GroundPoints:
     convergence : numpy.ndarray
         Meridian convergence gamma of the scene grid [°]:
         ``true_azimuth = (grid_azimuth + gamma) % 360``.
-    grid : glint.grid.Grid or None
+    grid : glint.geo.grid.Grid or None
         The scene grid.
     """
 
@@ -93,7 +93,7 @@ class GroundPoints:
 
         Examples
         --------
-        >>> from glint.grid import Grid
+        >>> from glint.geo.grid import Grid
         >>> g = Grid.from_bounds((500000, 4000000, 501000, 4001000), 100, 32630)
         >>> p = GroundPoints.from_pixels(g, [0, 9], [0, 9])
         >>> p.lon.shape
@@ -161,7 +161,7 @@ class ViewAngles:
 
 @runtime_checkable
 class Sensor(Protocol):
-    """What the scene and :mod:`glint.compute` need from a sensor.
+    """What the scene and :mod:`glint.engine.compute` need from a sensor.
 
     ``smooth`` is True when the angles vary slowly enough over the scene to be
     interpolated from tie-point nodes; False when they must be evaluated at
@@ -665,7 +665,7 @@ def sensor_from_table(table: Mapping[str, Any], *, key: str = "sensor", base_dir
         Key path of the table, prefixed to every problem.
     base_dir : path, optional
         Directory that relative file paths are resolved against.
-    grid : glint.grid.Grid or None
+    grid : glint.geo.grid.Grid or None
         The scene grid (needed by raster sensors and for defaults at the grid
         centre).
 

@@ -14,7 +14,7 @@ from typing import Any
 
 import numpy as np
 
-from glint._units import WGS84_A, WGS84_B
+from glint.validation import WGS84_A, WGS84_B
 from glint.sensors.base import (
     TableReader,
     enu_basis,

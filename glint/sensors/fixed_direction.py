@@ -11,7 +11,7 @@ from typing import Literal
 
 import numpy as np
 
-from glint._units import wrap_azimuth
+from glint.validation import wrap_azimuth
 from glint.errors import SensorError
 from glint.sensors.base import (
     GroundPoints,

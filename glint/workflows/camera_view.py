@@ -3,7 +3,7 @@
 For a scene whose sensor is a frame camera (drone) or a fixed camera, every
 image pixel's ray is intersected with the water (see
 :func:`glint.sensors.camera_image_geometry`) and the glint variables are
-computed at those ground points (:func:`glint.compute.compute_points`). The
+computed at those ground points (:func:`glint.engine.compute.compute_points`). The
 result shows where glint will fall in the photo, which is what a survey
 planner checks before choosing a time, heading or gimbal pitch.
 
@@ -19,7 +19,9 @@ from pathlib import Path
 
 import numpy as np
 
-from glint import compute, io, plot
+from glint.engine import compute
+from glint.io import quicklook as plot
+from glint.io import writers as io
 from glint.errors import SensorError
 from glint.sensors import FrameCamera, camera_image_geometry
 from glint.variables import CLASS_NODATA
@@ -189,7 +191,7 @@ def _write_one_view(scene, cam, t, paths: dict, step: int, overwrite: bool, file
 
 def _write_netcdf(ds, scene, path: Path, overwrite: bool, step: int) -> None:
     """The camera view as a compressed CF NetCDF (image coordinates)."""
-    from glint import __version__
+    from glint._version import __version__
 
     ds = ds.copy()
     ds.attrs.update({

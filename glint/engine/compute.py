@@ -13,7 +13,7 @@ This module is the one place that walks a grid. For each scene time it
    the sensor), so an azimuth error near the zenith, where azimuth is
    meaningless, counts only as much as the direction moves. When no spacing
    meets the bound every pixel is computed exactly;
-2. evaluates, strip by strip, the fused glint kernel of :mod:`glint.reflect`;
+2. evaluates, strip by strip, the fused glint kernel of :mod:`glint.physics.reflect`;
 3. classes the result.
 
 :func:`iter_blocks` streams strips (bounded memory at any grid size);
@@ -30,12 +30,12 @@ from dataclasses import dataclass
 import numba
 import numpy as np
 
-from glint import grid as _grid
+from glint.geo import grid as _grid
 from glint.errors import InputError
-from glint.reflect import glint_kernel
+from glint.physics.reflect import glint_kernel
 from glint.sensors import GroundPoints
-from glint.sun import earth_sun_distance, solar_position, sun_solid_angle
-from glint.surface import (
+from glint.physics.sun import earth_sun_distance, solar_position, sun_solid_angle
+from glint.physics.surface import (
     SLOPE_MODEL_WIND_HEIGHT,
     SLOPE_VARIANCE_FLOOR,
     gram_charlier_coefficients,
@@ -138,7 +138,7 @@ def _kernel_parameters(surf, water, time) -> KernelParameters:
 
 
 def sun_angles(scene, time, lat, lon):
-    """Exact sun position (:func:`glint.sun.solar_position`) with the scene's
+    """Exact sun position (:func:`glint.physics.sun.solar_position`) with the scene's
     sun options (pressure, air temperature, refraction, delta T, height of
     the water surface).
 

@@ -15,7 +15,7 @@ from typing import Any
 import numpy as np
 
 from glint.errors import InputError, InputFileError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 
 __all__ = ["RasterBand", "open_band", "check_matches_grid"]
 
@@ -62,7 +62,7 @@ class RasterBand:
         import rasterio
         from rasterio.errors import RasterioIOError
 
-        from glint.grid import parse_crs
+        from glint.geo.grid import parse_crs
 
         self.path = _check_input_path(path)
         try:

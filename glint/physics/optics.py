@@ -17,7 +17,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from glint._units import as_float_array, check_choice, check_range, user_stacklevel, warn_outside
+from glint.validation import as_float_array, check_choice, check_range, user_stacklevel, warn_outside
 from glint.errors import ValidityWarning
 
 __all__ = [

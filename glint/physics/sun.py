@@ -24,14 +24,14 @@ import numba
 import numpy as np
 from numba import njit, prange
 
-from glint._units import (
+from glint.validation import (
     ASTRONOMICAL_UNIT,
     SOLAR_RADIUS,
     as_float_array,
     broadcast_inputs,
     check_range,
 )
-from glint._spa_tables import B_TERMS, L_TERMS, NUTATION_TERMS, R_TERMS
+from glint.physics.spa_tables import B_TERMS, L_TERMS, NUTATION_TERMS, R_TERMS
 from glint.times import to_utc_datetime64
 from glint.errors import InputError, ValidityWarning
 

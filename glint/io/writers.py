@@ -22,7 +22,7 @@ Output files
 ``overwrite``, and :func:`output_directory` creates the output directory for
 a run and removes it again if the run fails before writing anything.
 
-Input rasters are read by :mod:`glint.readers`.
+Input rasters are read by :mod:`glint.geo.readers`.
 """
 
 from __future__ import annotations
@@ -39,9 +39,9 @@ from typing import Any
 
 import numpy as np
 
-from glint import __version__
+from glint._version import __version__
 from glint.errors import InputError, OutputError
-from glint.grid import Grid
+from glint.geo.grid import Grid
 from glint.variables import CLASS_NODATA, VARIABLES
 
 __all__ = [

@@ -3,7 +3,7 @@
 Reda, I. and Andreas, A. (2004). Solar position algorithm for solar radiation
 applications. Solar Energy 76(5), 577-589. doi:10.1016/j.solener.2003.12.003
 (NREL/TP-560-34302, revised 2008), Tables A4.2 and A4.3. Data only; used by
-:mod:`glint.sun`.
+:mod:`glint.physics.sun`.
 """
 
 # ---------------------------------------------------------------------------

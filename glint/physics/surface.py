@@ -31,7 +31,7 @@ from typing import Any, Literal
 
 import numpy as np
 
-from glint._units import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
+from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
 from glint.errors import InputError
 
 __all__ = [

@@ -16,7 +16,9 @@ from pathlib import Path
 
 import numpy as np
 
-from glint import compute, io, plot
+from glint.engine import compute
+from glint.io import quicklook as plot
+from glint.io import writers as io
 from glint.errors import InputError, SensorError
 from glint.scene import OUTPUT_FORMATS
 from glint.variables import CLASS_NODATA, VARIABLES
@@ -252,7 +254,7 @@ def _axis_units(g) -> str:
 
 def _acdd(scene, t, attrs) -> dict:
     """ACDD-1.3 global attributes of a scene's NetCDF."""
-    from glint import __version__
+    from glint._version import __version__
 
     return {
         "title": f"Sun glint estimate: {scene.name}",

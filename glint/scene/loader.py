@@ -50,11 +50,11 @@ from typing import Any
 import numpy as np
 
 from glint.errors import GlintError, GridError, InputError, InputFileError, SceneError
-from glint.grid import Grid, parse_crs
-from glint.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
+from glint.geo.grid import Grid, parse_crs
+from glint.physics.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
 from glint.sensors import Sensor, sensor_from_table
 from glint.times import parse_time
-from glint.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
+from glint.physics.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
 __all__ = [
@@ -74,7 +74,7 @@ __all__ = [
     "WAVELENGTH_RANGE",
 ]
 
-#: File formats that :func:`glint.maps.write_maps` can write.
+#: File formats that :func:`glint.workflows.maps.write_maps` can write.
 OUTPUT_FORMATS: tuple[str, ...] = ("geotiff", "netcdf", "png")
 #: Wavelengths [nm] accepted for ``[water] wavelength`` and ``glint sun
 #: --wavelength``: the ultraviolet-to-shortwave-infrared span of optical
@@ -106,10 +106,10 @@ class Surface:
     wind_height : float
         Height of the wind measurement above the water [m].
     slope_model : str
-        Mean-square-slope model, one of :data:`glint.surface.SLOPE_MODELS`.
+        Mean-square-slope model, one of :data:`glint.physics.surface.SLOPE_MODELS`.
     distribution : str
         Shape of the slope density, one of
-        :data:`glint.surface.SLOPE_DISTRIBUTIONS`.
+        :data:`glint.physics.surface.SLOPE_DISTRIBUTIONS`.
     shadowing : bool
         Whether facets hidden from the sun or the sensor by other waves are
         removed (matters at grazing angles only).
@@ -126,7 +126,7 @@ class Surface:
     def wind_speed_10m(self) -> float:
         """Wind speed [m s⁻¹] at 10 m, from a logarithmic wind profile.
 
-        Uses :func:`glint.surface.wind_speed_at_height`; returns
+        Uses :func:`glint.physics.surface.wind_speed_at_height`; returns
         ``wind_speed`` unchanged when ``wind_height`` is 10 m.
         """
         if self.wind_height == 10.0:
@@ -147,7 +147,7 @@ class Water:
     salinity : float
         Practical salinity [PSU].
     index_method : str
-        Method of :func:`glint.optics.water_refractive_index`.
+        Method of :func:`glint.physics.optics.water_refractive_index`.
     refractive_index : float or None
         Refractive index relative to air; when given it overrides the value
         computed from wavelength, temperature and salinity.
@@ -163,7 +163,7 @@ class Water:
         """Refractive index of the water relative to air [1].
 
         Returns the explicit ``refractive_index`` when given, else
-        :func:`glint.optics.water_refractive_index` of ``wavelength``,
+        :func:`glint.physics.optics.water_refractive_index` of ``wavelength``,
         ``temperature`` and ``salinity`` with ``index_method``.
         """
         if self.refractive_index is not None:
@@ -181,7 +181,7 @@ class Water:
 
 @dataclass(frozen=True)
 class SunOptions:
-    """Options of the sun position (see :func:`glint.sun.solar_position`).
+    """Options of the sun position (see :func:`glint.physics.sun.solar_position`).
 
     Attributes
     ----------
@@ -192,7 +192,7 @@ class SunOptions:
     refraction : bool
         Whether the sun zenith includes atmospheric refraction.
     delta_t : float or None
-        TT - UT [s]; ``None`` lets :func:`glint.sun.delta_t` estimate it.
+        TT - UT [s]; ``None`` lets :func:`glint.physics.sun.delta_t` estimate it.
     surface_elevation : float
         Height of the water surface above the WGS 84 ellipsoid [m].
     """

@@ -1105,7 +1105,7 @@ def interpolate_azimuth_nodes(
     itself. Where the field turns by 180° or more across one cell (around the
     nadir of a low sensor, or the sun near the zenith) the result is wrong;
     callers check interpolated angles against exact values (as
-    :func:`glint.compute.plan_geometry` does) and refine the lattice.
+    :func:`glint.engine.compute.plan_geometry` does) and refine the lattice.
 
     Examples
     --------

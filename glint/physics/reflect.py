@@ -3,8 +3,8 @@
 Two ways to the same numbers:
 
 * reference numpy functions :func:`glint_radiance`, :func:`glint_reflectance`
-  and :func:`glint_fraction`, composed from :mod:`glint.geometry`,
-  :mod:`glint.optics` and :mod:`glint.surface`; easy to read, allocate a full
+  and :func:`glint_fraction`, composed from :mod:`glint.physics.facets`,
+  :mod:`glint.physics.optics` and :mod:`glint.physics.surface`; easy to read, allocate a full
   array per step;
 * :func:`glint_kernel`, a fused numba kernel that computes every per-pixel
   output in one parallel pass (float32 outputs), for whole scenes. Its scalar
@@ -25,10 +25,10 @@ from typing import Any, Literal
 import numpy as np
 from numba import njit, prange
 
-from glint import optics, surface
-from glint._units import as_float_array, broadcast_inputs, check_choice
+from glint.physics import optics, surface
+from glint.validation import as_float_array, broadcast_inputs, check_choice
 from glint.errors import InputError
-from glint.geometry import facet_geometry
+from glint.physics.facets import facet_geometry
 
 __all__ = [
     "KERNEL_OUTPUTS",
@@ -190,7 +190,7 @@ def glint_radiance(
         sensor [°].
     wind_speed : array_like
         Wind speed [m s⁻¹] at the slope model's height
-        (``glint.surface.SLOPE_MODEL_WIND_HEIGHT``).
+        (``glint.physics.surface.SLOPE_MODEL_WIND_HEIGHT``).
     wind_direction : array_like or None
         Direction the wind blows from, clockwise from true north [°];
         ``None`` selects the isotropic Gaussian.
@@ -198,12 +198,12 @@ def glint_radiance(
         Refractive index of water relative to air [1]. The default 1.34 is
         a common value for sea water in the visible.
     model : {"cox-munk", "cox-munk-slick", "breon-henriot", "wu"}
-        Slope-variance law (:func:`glint.surface.slope_variances`).
+        Slope-variance law (:func:`glint.physics.surface.slope_variances`).
     distribution : {"gaussian", "gram-charlier"}
-        Slope density (:func:`glint.surface.slope_pdf`).
+        Slope density (:func:`glint.physics.surface.slope_pdf`).
     shadowing : bool
         Multiply by the bidirectional shadowing factor of Smith (1967)
-        (:func:`glint.surface.bidirectional_shadowing`) with the per-axis
+        (:func:`glint.physics.surface.bidirectional_shadowing`) with the per-axis
         mean square slope ``(sigma2_crosswind + sigma2_upwind) / 2``.
 
     Returns
@@ -234,7 +234,7 @@ def glint_radiance(
                            {4 \\cos\\theta_v \\cos^4\\beta}
 
     with the facet slopes, tilt :math:`\\beta` and reflection angle
-    :math:`\\omega` of :func:`glint.geometry.facet_geometry`, the Fresnel
+    :math:`\\omega` of :func:`glint.physics.facets.facet_geometry`, the Fresnel
     reflectance :math:`\\rho` and the slope density :math:`p`
     (Cox and Munk 1954, eq. for the glitter radiance; Wang and Bailey 2001).
     The sun is treated as a point source; the derivation is in
@@ -359,7 +359,7 @@ def glint_fraction(
         As in :func:`glint_radiance`.
     sun_solid_angle : float, optional
         Solid angle of the sun's disc [sr]; default: at 1 AU
-        (:func:`glint.sun.sun_solid_angle`, about 6.8e-5 sr).
+        (:func:`glint.physics.sun.sun_solid_angle`, about 6.8e-5 sr).
 
     Returns
     -------
@@ -409,7 +409,7 @@ def glint_fraction(
     0.00022
     """
     if sun_solid_angle is None:
-        from glint.sun import sun_solid_angle as _solid
+        from glint.physics.sun import sun_solid_angle as _solid
 
         omega_sun = float(_solid(1.0))
     else:
@@ -675,7 +675,7 @@ def _kernel_params(
         if not isinstance(gram_charlier, Mapping) or set(_GC_KEYS) - set(gram_charlier):
             raise InputError(
                 "distribution='gram-charlier' needs gram_charlier, a mapping with keys "
-                f"{', '.join(_GC_KEYS)} (glint.surface.gram_charlier_coefficients); "
+                f"{', '.join(_GC_KEYS)} (glint.physics.surface.gram_charlier_coefficients); "
                 f"got {gram_charlier!r}"
             )
         for j, key in enumerate(_GC_KEYS):
@@ -780,23 +780,23 @@ def glint_kernel(
         Refractive index of water relative to air [1], > 0.
     sigma2_crosswind, sigma2_upwind : float
         Mean square slopes across and along the wind [1], > 0
-        (:func:`glint.surface.slope_variances`).
+        (:func:`glint.physics.surface.slope_variances`).
     wind_direction : float
         Direction the wind blows from, clockwise from true north [°]; NaN
         (the default) selects the isotropic Gaussian with per-axis variance
         ``(sigma2_crosswind + sigma2_upwind) / 2``.
     sun_solid_angle : float
         Solid angle of the sun's disc [sr], in (0, 2 pi]
-        (:func:`glint.sun.sun_solid_angle`).
+        (:func:`glint.physics.sun.sun_solid_angle`).
     distribution : {"gaussian", "gram-charlier"}
         Slope density; ``"gram-charlier"`` needs a wind direction and
         ``gram_charlier``.
     gram_charlier : mapping, optional
         Coefficients ``c21, c03, c40, c22, c04`` as scalars
-        (:func:`glint.surface.gram_charlier_coefficients`).
+        (:func:`glint.physics.surface.gram_charlier_coefficients`).
     shadowing : bool
         Multiply by Smith's (1967) bidirectional shadowing factor
-        (:func:`glint.surface.bidirectional_shadowing`) with the per-axis
+        (:func:`glint.physics.surface.bidirectional_shadowing`) with the per-axis
         mean square slope ``(sigma2_crosswind + sigma2_upwind) / 2``.
     out : mapping of numpy.ndarray, optional
         Preallocated C-contiguous float32 or float64 arrays of the input
@@ -830,11 +830,11 @@ def glint_kernel(
     :math:`k = p\\,S/(4\\cos\\theta_v\\cos^4\\beta)` (S the shadowing factor or
     1), radiance :math:`\\rho k`, reflectance :math:`\\pi\\rho k/\\cos\\theta_s`,
     fraction :math:`\\min(1, \\Omega_\\odot k)`. The scalar helpers repeat
-    :func:`glint.optics.fresnel_amplitudes`,
-    :func:`glint.surface.wind_frame_slopes`,
-    :func:`glint.surface.anisotropic_gaussian_pdf` and
-    :func:`glint.surface.gram_charlier_series` and
-    :func:`glint.surface.shadowing`. Sines and cosines come from an exact
+    :func:`glint.physics.optics.fresnel_amplitudes`,
+    :func:`glint.physics.surface.wind_frame_slopes`,
+    :func:`glint.physics.surface.anisotropic_gaussian_pdf` and
+    :func:`glint.physics.surface.gram_charlier_series` and
+    :func:`glint.physics.surface.shadowing`. Sines and cosines come from an exact
     reduction in degrees and polynomials, so that the arithmetic of each
     chunk of pixels runs as one vectorised loop; the exponential, the
     arcsine and the special cases follow in a second loop. Compiled with

@@ -5,7 +5,7 @@ the ground point (degrees, azimuths clockwise from true north, the sun azimuth
 pointing to the sun and the view azimuth pointing to the sensor; see
 ``docs/conventions.md``). This module finds the one facet orientation that
 mirrors the sun into the sensor and the angles that the glint formulas of
-:mod:`glint.reflect` need.
+:mod:`glint.physics.reflect` need.
 
 Frame: local east-north-up, so a direction with zenith :math:`\\theta` and
 azimuth :math:`\\phi` is the unit vector
@@ -19,7 +19,7 @@ from typing import Any, NamedTuple
 
 import numpy as np
 
-from glint._units import as_float_array, broadcast_inputs, check_range, wrap_azimuth
+from glint.validation import as_float_array, broadcast_inputs, check_range, wrap_azimuth
 from glint.errors import InputError
 
 __all__ = [
@@ -244,7 +244,7 @@ def facet_geometry(
 
     When the sun or the sensor is below the horizon the facet may face
     downwards (:math:`n_z \\le 0`): the slopes are then infinite or of the
-    wrong sign and the tilt exceeds 90°; :mod:`glint.reflect` handles those
+    wrong sign and the tilt exceeds 90°; :mod:`glint.physics.reflect` handles those
     cases. When sun and sensor are opposite (:math:`|\\mathbf s + \\mathbf v|
     < 10^{-9}`) the bisector is undefined and every output but the glint
     angle and the relative azimuth is NaN.

@@ -1,0 +1,42 @@
+"""Scenes: the typed :class:`Scene` and its TOML file (layer 3).
+
+:func:`load_scene` reads a scene file, :func:`scene_from_dict` builds a
+scene from the same structure in memory; both report every problem at once
+with its key path.
+"""
+
+from __future__ import annotations
+
+from glint.scene.loader import (
+    CLASS_VARIABLES,
+    COMPRESSIONS,
+    OUTPUT_FORMATS,
+    SECTIONS,
+    WAVELENGTH_RANGE,
+    GlintClasses,
+    Outputs,
+    Scene,
+    SunOptions,
+    Surface,
+    Water,
+    load_scene,
+    scene_from_dict,
+    slugify,
+)
+
+__all__ = [
+    "Surface",
+    "Water",
+    "SunOptions",
+    "GlintClasses",
+    "Outputs",
+    "Scene",
+    "load_scene",
+    "scene_from_dict",
+    "slugify",
+    "SECTIONS",
+    "OUTPUT_FORMATS",
+    "COMPRESSIONS",
+    "CLASS_VARIABLES",
+    "WAVELENGTH_RANGE",
+]
