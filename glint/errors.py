@@ -16,6 +16,7 @@ __all__ = [
     "SensorError",
     "OutputError",
     "InputFileError",
+    "RunStopped",
     "GlintWarning",
     "ValidityWarning",
 ]
@@ -70,6 +71,37 @@ class InputFileError(GlintError, OSError):
 
 class OutputError(GlintError, OSError):
     """An output cannot be written (exists, directory not writable, disk)."""
+
+
+class RunStopped(KeyboardInterrupt):
+    """The run was stopped by a signal (SIGINT from Ctrl-C, SIGTERM from a
+    scheduler or ``timeout``).
+
+    A ``KeyboardInterrupt`` (hence a ``BaseException``), so that ``except
+    Exception`` clauses in workflows do not swallow a stop; ``finally``
+    blocks and context managers still run and remove temporary files.
+
+    Parameters
+    ----------
+    signum : int
+        The signal number.
+    """
+
+    def __init__(self, signum: int):
+        import signal
+
+        self.signum = int(signum)
+        try:
+            self.signal_name = signal.Signals(self.signum).name
+        except ValueError:
+            self.signal_name = f"signal {self.signum}"
+        super().__init__(f"stopped by {self.signal_name}")
+
+    @property
+    def exit_code(self) -> int:
+        """The conventional shell exit status, 128 + the signal number
+        (130 after SIGINT, 143 after SIGTERM)."""
+        return 128 + self.signum
 
 
 class GlintWarning(UserWarning):

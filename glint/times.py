@@ -15,7 +15,7 @@ import numpy as np
 
 from glint.errors import InputError
 
-__all__ = ["parse_time", "to_utc_datetime64"]
+__all__ = ["TIME_STYLES", "format_time", "parse_time", "to_utc_datetime64"]
 
 
 _NAIVE_MSG = (
@@ -240,3 +240,48 @@ def to_utc_datetime64(time: Any) -> np.ndarray:
         f"time must be numpy.datetime64, a timezone-aware datetime.datetime or "
         f"a pandas Timestamp/DatetimeIndex (or an array of those); got {time!r}"
     )
+
+
+#: Styles of :func:`format_time`.
+TIME_STYLES: tuple[str, ...] = ("iso", "text", "stamp")
+
+
+def format_time(time: Any, style: str = "iso") -> str:
+    """One UTC instant as text, to the second: the one time formatter of glint.
+
+    Parameters
+    ----------
+    time : datetime-like
+        A numpy ``datetime64`` (UTC), a timezone-aware ``datetime`` or a
+        pandas ``Timestamp``; naive ``datetime`` objects are refused as in
+        :func:`to_utc_datetime64`.
+    style : {"iso", "text", "stamp"}
+        ``"iso"``: ISO 8601 with a ``Z`` (``2026-06-14T10:30:00Z``), for
+        metadata and tables; ``"text"``: for people (``2026-06-14 10:30:00
+        UTC``); ``"stamp"``: compact, for file names (``20260614T103000Z``).
+
+    Returns
+    -------
+    str
+
+    Raises
+    ------
+    InputError
+        If ``style`` is not one of :data:`TIME_STYLES`.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> t = np.datetime64("2026-06-14T10:30:00.4")
+    >>> format_time(t), format_time(t, "text"), format_time(t, "stamp")
+    ('2026-06-14T10:30:00Z', '2026-06-14 10:30:00 UTC', '20260614T103000Z')
+    """
+    if style not in TIME_STYLES:
+        raise InputError(f"time style {style!r} is not one of {', '.join(TIME_STYLES)}")
+    t = np.asarray(to_utc_datetime64(time)).reshape(-1)[0]
+    iso = str(np.datetime_as_string(t.astype("datetime64[s]"), unit="s"))
+    if style == "text":
+        return iso.replace("T", " ") + " UTC"
+    if style == "stamp":
+        return iso.replace("-", "").replace(":", "") + "Z"
+    return iso + "Z"

@@ -14,3 +14,13 @@ os.environ.setdefault("MPLBACKEND", "Agg")
 def rng() -> np.random.Generator:
     """A seeded random generator, so failures reproduce."""
     return np.random.default_rng(20261202)
+
+
+@pytest.fixture(scope="session", autouse=True)
+def compiled_kernels() -> None:
+    """Compile (or load from the cache) the numba kernels once per test
+    session, so that their cost shows here and not inside whichever test
+    happens to run first."""
+    from glint.physics.reflect import warmup
+
+    warmup()

@@ -30,7 +30,8 @@ Examples:
 
 \b
 Exit codes: 0 success, 2 invalid scene or input (or a sensor that is not a
-camera), 1 outputs could not be written.
+camera), 1 outputs could not be written, 130 stopped by Ctrl-C (SIGINT), 143
+stopped by SIGTERM; a stopped run leaves no partial set of outputs.
 """
 
 

@@ -13,9 +13,11 @@ from glint.errors import (
     GridError,
     InputError,
     InputFileError,
+    RunStopped,
     SceneError,
     SensorError,
 )
+from glint.io.outputset import stop_on_signals
 
 __all__ = ["cli", "exit_code_for"]
 
@@ -44,7 +46,16 @@ class _GlintGroup(click.Group):
 
     def invoke(self, ctx: click.Context):  # noqa: D102 - click API
         try:
-            return super().invoke(ctx)
+            with stop_on_signals():
+                return super().invoke(ctx)
+        except RunStopped as stop:
+            click.echo(f"Stopped by {stop.signal_name}: finished output sets were kept, "
+                       "unfinished ones removed.", err=True)
+            ctx.exit(stop.exit_code)
+        except KeyboardInterrupt:  # a SIGINT outside stop_on_signals' reach
+            click.echo("Stopped by SIGINT: finished output sets were kept, unfinished ones removed.",
+                       err=True)
+            ctx.exit(130)
         except GlintError as exc:
             click.echo(f"Error: {exc}", err=True)
             ctx.exit(exit_code_for(exc))

@@ -34,7 +34,9 @@ Examples:
   glint map scene.toml -o out --time 2026-06-14T10:30:00Z --time 2026-06-14T11:30:00Z
 
 \b
-Exit codes: 0 success, 2 invalid scene or input, 1 outputs could not be written.
+Exit codes: 0 success, 2 invalid scene or input, 1 outputs could not be written,
+130 stopped by Ctrl-C (SIGINT), 143 stopped by SIGTERM; a stopped run leaves no
+partial set of outputs.
 """
 
 
