@@ -54,6 +54,7 @@ from glint.geo.grid import Grid, parse_crs
 from glint.physics.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
 from glint.sensors import Sensor, sensor_from_table
 from glint.times import parse_time
+from glint.validation import interval_problem
 from glint.physics.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
@@ -306,22 +307,11 @@ class _Key:
 
 def _range(low: float | None = None, high: float | None = None, *, low_open: bool = False,
            high_open: bool = False, unit: str = "") -> Callable[[Any], str | None]:
+    """A key check: every number of the value lies in the interval
+    (:func:`glint.validation.interval_problem`)."""
     def check(value: Any) -> str | None:
-        values = value if isinstance(value, (list, tuple)) else [value]
-        for v in values:
-            bad = not math.isfinite(v)
-            if low is not None:
-                bad |= v <= low if low_open else v < low
-            if high is not None:
-                bad |= v >= high if high_open else v > high
-            if bad:
-                u = f" {unit}" if unit else ""
-                if high is None:
-                    return f"must be {'>' if low_open else '>='} {low:g}{u}; got {v!r}"
-                lb = "(" if low_open else "["
-                hb = ")" if high_open else "]"
-                return f"must lie in {lb}{low:g}, {high:g}{hb}{u}; got {v!r}"
-        return None
+        return interval_problem(value, low, high, low_open=low_open, high_open=high_open,
+                                unit=unit)
 
     return check
 

@@ -19,6 +19,7 @@ from glint.errors import GridError, InputFileError, SensorError
 from glint.sensors.angle_rasters import _build_pair
 from glint.sensors.base import GroundPoints, TableReader, ViewAngles, register_sensor_kind
 from glint.sensors.fixed_direction import AZIMUTH_REFERENCES
+from glint.validation import check_choice
 
 __all__ = ["AngleGrid", "bilinear_at_points"]
 
@@ -126,9 +127,7 @@ class AngleGrid:
                               f"got {z.shape!r} and {a.shape!r}")
         if min(z.shape) < 2:
             raise SensorError(f"an angle grid needs at least 2 x 2 nodes; got {z.shape!r}")
-        if azimuth_reference not in AZIMUTH_REFERENCES:
-            raise SensorError(f"azimuth_reference must be one of {AZIMUTH_REFERENCES!r}; "
-                              f"got {azimuth_reference!r}")
+        check_choice(azimuth_reference, "azimuth_reference", AZIMUTH_REFERENCES, error=SensorError)
         self.node_grid = Grid(crs, transform, z.shape)
         self.zenith, self.azimuth = z, a
         self.azimuth_reference = azimuth_reference

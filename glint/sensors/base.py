@@ -23,7 +23,14 @@ from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
 
-from glint.validation import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
+from glint.validation import (
+    WGS84_A,
+    WGS84_B,
+    WGS84_F,
+    choice_problem,
+    interval_problem,
+    wrap_azimuth,
+)
 from glint.errors import GlintError, SceneError, SensorError
 from glint.times import parse_time
 
@@ -39,9 +46,6 @@ __all__ = [
     "lonlat_from_ecef",
     "enu_basis",
     "angles_to_position",
-    "check_positive",
-    "check_open_interval",
-    "check_closed_interval",
     "ellipsoid_point_along",
     "local_radius",
     "heading_vector",
@@ -173,56 +177,6 @@ class Sensor(Protocol):
     def view_angles(self, points: GroundPoints, time: np.datetime64) -> ViewAngles:
         """View angles (and imaging times) at ``points``; ``time`` is the scene time."""
         ...
-
-
-# --------------------------------------------------------------------------
-# checks shared by the sensor constructors
-# --------------------------------------------------------------------------
-def _scalar(value: Any, name: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError) as exc:
-        raise SensorError(f"{name} must be a number; got {value!r}") from exc
-    if not np.isfinite(v):
-        raise SensorError(f"{name} must be finite; got {value!r}")
-    return v
-
-
-def check_positive(value: Any, name: str, unit: str = "") -> float:
-    """Return ``value`` as a float, or raise :class:`SensorError` unless > 0.
-
-    Examples
-    --------
-    >>> check_positive(3, "altitude", "m")
-    3.0
-    """
-    v = _scalar(value, name)
-    if not v > 0.0:
-        raise SensorError(f"{name} must be > 0{' ' + unit if unit else ''}; got {value!r}")
-    return v
-
-
-def check_open_interval(value: Any, name: str, low: float, high: float, unit: str = "deg") -> float:
-    """Return ``value`` as a float, or raise :class:`SensorError` unless
-    ``low < value < high``.
-
-    Examples
-    --------
-    >>> check_open_interval(60, "horizontal_fov", 0, 180)
-    60.0
-    """
-    v = _scalar(value, name)
-    if not low < v < high:
-        raise SensorError(f"{name} must lie in ({low:g}, {high:g}) {unit}; got {value!r}")
-    return v
-
-
-def check_closed_interval(value: Any, name: str, low: float, high: float, unit: str = "deg") -> float:
-    """Return ``value`` as a float, or raise unless ``low <= value <= high``."""
-    v = _scalar(value, name)
-    if not low <= v <= high:
-        raise SensorError(f"{name} must lie in [{low:g}, {high:g}] {unit}; got {value!r}")
-    return v
 
 
 # --------------------------------------------------------------------------
@@ -532,18 +486,10 @@ class TableReader:
             self.problem(name, f"must be a finite number{' in ' + unit if unit else ''}; got {v!r}")
             return None
         v = float(v)
-        bad = (low is not None and (v <= low if low_open else v < low)) or (
-            high is not None and (v >= high if high_open else v > high))
-        if bad:
-            u = f" {unit}" if unit else ""
-            if high is None:
-                rng = f"be {'>' if low_open else '>='} {low:g}{u}"
-            elif low is None:
-                rng = f"be {'<' if high_open else '<='} {high:g}{u}"
-            else:
-                rng = (f"lie in {'(' if low_open else '['}{low:g}, {high:g}"
-                       f"{')' if high_open else ']'}{u}")
-            self.problem(name, f"must {rng}, got {v!r}")
+        msg = interval_problem(v, low, high, low_open=low_open, high_open=high_open, unit=unit,
+                               sep=", got")
+        if msg is not None:
+            self.problem(name, msg)
             return None
         return v
 
@@ -568,10 +514,11 @@ class TableReader:
                 self.problem(name, f"required key is missing; allowed values: {', '.join(map(repr, choices))}")
             return None if default is _MISSING else default
         v = self.table[name]
-        if v not in choices:
-            self.problem(name, f"must be one of {', '.join(map(repr, choices))}; got {v!r}")
+        msg = choice_problem(v, choices)
+        if msg is not None:
+            self.problem(name, msg)
             return None
-        return v
+        return str(v)
 
     def integer(self, name: str, *, default: Any = _MISSING, low: int = 1) -> int | None:
         """A whole number >= ``low``."""

@@ -11,13 +11,12 @@ from typing import Literal
 
 import numpy as np
 
-from glint.validation import wrap_azimuth
+from glint.validation import check_choice, check_number, wrap_azimuth
 from glint.errors import SensorError
 from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
-    check_closed_interval,
     register_sensor_kind,
 )
 
@@ -57,12 +56,10 @@ class FixedDirection:
 
     def __init__(self, *, view_zenith: float, view_azimuth: float,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
-        self.view_zenith = check_closed_interval(view_zenith, "view_zenith", 0.0, 90.0 - 1e-9)
-        self.view_azimuth = float(wrap_azimuth(check_closed_interval(
-            view_azimuth, "view_azimuth", -360.0, 360.0)))
-        if azimuth_reference not in AZIMUTH_REFERENCES:
-            raise SensorError(f"azimuth_reference must be one of {AZIMUTH_REFERENCES!r}; "
-                              f"got {azimuth_reference!r}")
+        self.view_zenith = check_number(view_zenith, "view_zenith", 0.0, 90.0, high_open=True,
+                                        unit="deg", error=SensorError)
+        self.view_azimuth = float(wrap_azimuth(check_number(view_azimuth, "view_azimuth", -360.0, 360.0, unit="deg", error=SensorError)))
+        check_choice(azimuth_reference, "azimuth_reference", AZIMUTH_REFERENCES, error=SensorError)
         self.azimuth_reference = azimuth_reference
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:

@@ -11,15 +11,13 @@ from __future__ import annotations
 import numpy as np
 
 from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
     GreatCircleTrack,
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_open_interval,
-    check_positive,
     ecef_from_lonlat,
     enu_basis,
     lonlat_from_ecef,
@@ -85,11 +83,11 @@ class LineScanner:
             raise SensorError(f"start and end must be (lon, lat) pairs; got {start!r}, {end!r}") from exc
         for name, v, lim in (("start lon", lon0, 180), ("start lat", lat0, 90),
                              ("end lon", lon1, 180), ("end lat", lat1, 90)):
-            check_closed_interval(v, name, -lim, lim)
+            check_number(v, name, -lim, lim, unit="deg", error=SensorError)
         self.start, self.end = (lon0, lat0), (lon1, lat1)
-        self.altitude = check_positive(altitude, "altitude", "m")
-        self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
-        self.scan_half_angle = check_open_interval(scan_half_angle, "scan_half_angle", 0.0, 90.0)
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+        self.ground_speed = check_number(ground_speed, "ground_speed", 0.0, None, low_open=True, unit="m/s", error=SensorError)
+        self.scan_half_angle = check_number(scan_half_angle, "scan_half_angle", 0.0, 90.0, low_open=True, high_open=True, unit="deg", error=SensorError)
         self.start_time = None if start_time is None else np.datetime64(start_time, "ns")
         #: The attribute holding an imaging time fixed by the sensor's own
         #: table (None: it follows the scene time).

@@ -14,15 +14,13 @@ from typing import Literal
 import numpy as np
 
 from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
     GreatCircleTrack,
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_open_interval,
-    check_positive,
     ecef_from_lonlat,
     local_radius,
     lonlat_from_ecef,
@@ -73,8 +71,8 @@ def circular_orbit_ground_speed(altitude: float, radius: float) -> float:
     >>> round(circular_orbit_ground_speed(786e3, 6371e3), 0)
     6643.0
     """
-    h = check_positive(altitude, "altitude", "m")
-    r = check_positive(radius, "radius", "m")
+    h = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+    r = check_number(radius, "radius", 0.0, None, low_open=True, unit="m", error=SensorError)
     return float(np.sqrt(GM_EARTH / (r + h)) * r / (r + h))
 
 
@@ -118,7 +116,7 @@ def ground_track_heading(lat: float, inclination: float, pass_direction: str, *,
     ...                            altitude=786e3, radius=6378e3), 1)
     191.9
     """
-    i = check_open_interval(inclination, "inclination", 0.0, 180.0)
+    i = check_number(inclination, "inclination", 0.0, 180.0, low_open=True, high_open=True, unit="deg", error=SensorError)
     if pass_direction not in PASSES:
         raise SensorError(f"pass must be one of {PASSES!r}; got {pass_direction!r}")
     ratio = np.cos(np.radians(i)) / np.cos(np.radians(lat))
@@ -206,10 +204,10 @@ class PushBroom:
                  pass_direction: Literal["ascending", "descending"] | None = None,
                  centre_time: np.datetime64 | None = None, ground_speed: float | None = None,
                  tilt: float = 0.0) -> None:
-        self.altitude = check_positive(altitude, "altitude", "m")
-        self.centre_lon = check_closed_interval(centre_lon, "centre_lon", -180.0, 180.0)
-        self.centre_lat = check_closed_interval(centre_lat, "centre_lat", -90.0, 90.0)
-        self.tilt = check_open_interval(tilt, "tilt", -60.0, 60.0)
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+        self.centre_lon = check_number(centre_lon, "centre_lon", -180.0, 180.0, unit="deg", error=SensorError)
+        self.centre_lat = check_number(centre_lat, "centre_lat", -90.0, 90.0, unit="deg", error=SensorError)
+        self.tilt = check_number(tilt, "tilt", -60.0, 60.0, low_open=True, high_open=True, unit="deg", error=SensorError)
         if (heading is None) == (inclination is None):
             raise SensorError("give either heading or inclination (with pass_direction), not "
                               f"both or neither; got heading={heading!r}, inclination={inclination!r}")
@@ -220,14 +218,14 @@ class PushBroom:
                 raise SensorError(f"inclination needs pass_direction, one of {PASSES!r}")
             heading = ground_track_heading(self.centre_lat, inclination, pass_direction,
                                            altitude=self.altitude, radius=r_mean)
-        self.heading = check_closed_interval(heading, "heading", -360.0, 360.0) % 360.0
+        self.heading = check_number(heading, "heading", -360.0, 360.0, unit="deg", error=SensorError) % 360.0
         self.inclination = inclination
         self.pass_direction = pass_direction
         self.radius_along = local_radius(self.centre_lat, self.heading)
         r_across = local_radius(self.centre_lat, self.heading + 90.0)
         if ground_speed is None:
             ground_speed = circular_orbit_ground_speed(self.altitude, self.radius_along)
-        self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
+        self.ground_speed = check_number(ground_speed, "ground_speed", 0.0, None, low_open=True, unit="m/s", error=SensorError)
         self.centre_time = None if centre_time is None else np.datetime64(centre_time, "ns")
         #: The attribute holding an imaging time fixed by the sensor's own
         #: table (None: it follows the scene time).
