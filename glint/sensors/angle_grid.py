@@ -116,6 +116,9 @@ class AngleGrid:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, zenith: Any, azimuth: Any, crs: Any, transform: Any, *,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:

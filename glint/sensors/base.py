@@ -22,6 +22,9 @@ from pathlib import Path
 from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from glint.geo.grid import Grid
 
 from glint.validation import (
     WGS84_A,
@@ -53,6 +56,8 @@ __all__ = [
     "TableReader",
 ]
 
+FloatArray = NDArray[np.float64]
+
 #: First eccentricity squared of WGS 84.
 _E2 = WGS84_F * (2.0 - WGS84_F)
 
@@ -82,17 +87,17 @@ class GroundPoints:
         The scene grid.
     """
 
-    x: np.ndarray
-    y: np.ndarray
-    lon: np.ndarray
-    lat: np.ndarray
-    row: np.ndarray
-    col: np.ndarray
-    convergence: np.ndarray
-    grid: Any = None
+    x: FloatArray
+    y: FloatArray
+    lon: FloatArray
+    lat: FloatArray
+    row: FloatArray
+    col: FloatArray
+    convergence: FloatArray
+    grid: Grid | None = None
 
     @classmethod
-    def from_pixels(cls, grid: Any, rows: Any, cols: Any) -> GroundPoints:
+    def from_pixels(cls, grid: Grid, rows: ArrayLike, cols: ArrayLike) -> GroundPoints:
         """Ground points at (fractional) pixel indices of ``grid``.
 
         Examples
@@ -106,20 +111,22 @@ class GroundPoints:
         rows, cols = np.broadcast_arrays(np.asarray(rows, float), np.asarray(cols, float))
         x, y = grid.xy(rows, cols)
         lon, lat = grid.lonlat(x, y)
-        conv = grid.meridian_convergence(lon, lat)
+        conv = grid.meridian_convergence(longitude=lon, latitude=lat)
         return cls(x=x, y=y, lon=lon, lat=lat, row=rows, col=cols, convergence=conv, grid=grid)
 
     @classmethod
-    def from_lonlat(cls, lon: Any, lat: Any, grid: Any = None) -> GroundPoints:
+    def from_lonlat(cls, longitude: ArrayLike, latitude: ArrayLike,
+                    grid: Grid | None = None) -> GroundPoints:
         """Ground points at longitudes/latitudes [°]; grid terms from ``grid``
-        if given, else ``x = lon``, ``y = lat``, NaN row/col, zero convergence.
+        if given, else ``x = longitude``, ``y = latitude``, NaN row/col, zero
+        convergence.
 
         Examples
         --------
-        >>> GroundPoints.from_lonlat(3.0, 55.0).lat
+        >>> GroundPoints.from_lonlat(longitude=3.0, latitude=55.0).lat
         array(55.)
         """
-        lon, lat = np.broadcast_arrays(np.asarray(lon, float), np.asarray(lat, float))
+        lon, lat = np.broadcast_arrays(np.asarray(longitude, float), np.asarray(latitude, float))
         if grid is None:
             nan = np.full(lon.shape, np.nan)
             return cls(x=lon, y=lat, lon=lon, lat=lat, row=nan, col=nan,
@@ -129,7 +136,7 @@ class GroundPoints:
         tr = Transformer.from_crs("EPSG:4326", grid.crs, always_xy=True)
         x, y = (np.asarray(v, float) for v in tr.transform(lon, lat))
         row, col = grid.index(x, y)
-        conv = grid.meridian_convergence(lon, lat)
+        conv = grid.meridian_convergence(longitude=lon, latitude=lat)
         return cls(x=x, y=y, lon=lon, lat=lat, row=row, col=col, convergence=conv, grid=grid)
 
     @property
@@ -157,10 +164,10 @@ class ViewAngles:
         ``"scan_angle"`` [°] and ``"unseen"`` (number of points not seen).
     """
 
-    view_zenith: np.ndarray
-    view_azimuth: np.ndarray
-    time: np.ndarray | None = None
-    extras: dict = field(default_factory=dict)
+    view_zenith: FloatArray
+    view_azimuth: FloatArray
+    time: NDArray[np.datetime64] | None = None
+    extras: dict[str, NDArray[Any] | int] = field(default_factory=dict)
 
 
 @runtime_checkable
@@ -170,11 +177,24 @@ class Sensor(Protocol):
     ``smooth`` is True when the angles vary slowly enough over the scene to be
     interpolated from tie-point nodes; False when they must be evaluated at
     every pixel (sharp image or swath edges, per-pixel rasters).
+
+    ``time_key`` and ``fixed_time``: a sensor whose imaging time is fixed in
+    its own scene-file table (a push-broom's ``centre_time``, a line
+    scanner's ``start_time``) names that key and gives the time; every other
+    sensor has ``None`` for both and follows the scene time. The scene
+    checks that a fixed time agrees with every scene time.
     """
 
-    smooth: bool
+    @property
+    def smooth(self) -> bool: ...
 
-    def view_angles(self, points: GroundPoints, time: np.datetime64) -> ViewAngles:
+    @property
+    def time_key(self) -> str | None: ...
+
+    @property
+    def fixed_time(self) -> np.datetime64 | None: ...
+
+    def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles (and imaging times) at ``points``; ``time`` is the scene time."""
         ...
 

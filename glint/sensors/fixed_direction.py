@@ -53,6 +53,9 @@ class FixedDirection:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, *, view_zenith: float, view_azimuth: float,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:

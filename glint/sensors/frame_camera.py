@@ -150,6 +150,9 @@ class FrameCamera:
     """
 
     smooth = False
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
     surface = "plane"
 
     def __init__(self, *, lon: float, lat: float, altitude: float, image_size: tuple[int, int],

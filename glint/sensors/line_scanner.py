@@ -72,6 +72,8 @@ class LineScanner:
     """
 
     smooth = False
+    #: Scene-file key of the imaging time this sensor may fix itself.
+    time_key: str | None = "start_time"
 
     def __init__(self, *, start: tuple[float, float], end: tuple[float, float], altitude: float,
                  ground_speed: float, scan_half_angle: float,
@@ -91,7 +93,6 @@ class LineScanner:
         self.start_time = None if start_time is None else np.datetime64(start_time, "ns")
         #: The attribute holding an imaging time fixed by the sensor's own
         #: table (None: it follows the scene time).
-        self.time_key = "start_time"
         # Heading of the line at its start, from the two ECEF points.
         p0 = np.array(ecef_from_lonlat(lon0, lat0, 0.0))
         p1 = np.array(ecef_from_lonlat(lon1, lat1, 0.0))
@@ -103,6 +104,11 @@ class LineScanner:
         self.track = GreatCircleTrack(lon0, lat0, self.heading)
         along_end, _ = self.track.project(lon1, lat1)
         self.length = float(along_end) * self.track.radius
+
+    @property
+    def fixed_time(self) -> np.datetime64 | None:
+        """The ``start_time`` given in the sensor's table, or None (scene time)."""
+        return self.start_time
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles, imaging times and scan angles (``extras["scan_angle"]``)."""

@@ -56,6 +56,9 @@ class NadirPoint:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, *, lon: float, lat: float, altitude: float) -> None:
         self.lon = check_number(lon, "lon", -180.0, 180.0, unit="deg", error=SensorError)

@@ -198,6 +198,8 @@ class PushBroom:
     """
 
     smooth = True
+    #: Scene-file key of the imaging time this sensor may fix itself.
+    time_key: str | None = "centre_time"
 
     def __init__(self, *, altitude: float, centre_lon: float, centre_lat: float,
                  heading: float | None = None, inclination: float | None = None,
@@ -229,7 +231,6 @@ class PushBroom:
         self.centre_time = None if centre_time is None else np.datetime64(centre_time, "ns")
         #: The attribute holding an imaging time fixed by the sensor's own
         #: table (None: it follows the scene time).
-        self.time_key = "centre_time"
         eta = np.radians(self.tilt)
         k = (r_across + self.altitude) / r_across * np.sin(eta)
         if abs(k) >= 1.0:
@@ -258,6 +259,11 @@ class PushBroom:
                                                                      self.centre_lat, 0.0))
         _, across = self.track.project(self.centre_lon, self.centre_lat)
         return float(np.copysign(180.0 - vz, -across))
+
+    @property
+    def fixed_time(self) -> np.datetime64 | None:
+        """The ``centre_time`` given in the sensor's table, or None (scene time)."""
+        return self.centre_time
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles and imaging times; ``time`` is used when no centre time was given."""
