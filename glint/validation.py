@@ -11,6 +11,7 @@ import os
 import sys
 import warnings
 from collections.abc import Sequence
+from types import FrameType
 from typing import Any
 
 import numpy as np
@@ -277,7 +278,7 @@ _PACKAGE_DIR = os.path.dirname(os.path.abspath(__file__))
 def user_stacklevel() -> int:
     """Stack level of the first frame outside glint, seen from the caller of
     this helper, so that warnings point at the user's line."""
-    frame = sys._getframe(1)
+    frame: FrameType | None = sys._getframe(1)
     level = 1
     while frame is not None and frame.f_code.co_filename.startswith(_PACKAGE_DIR):
         frame = frame.f_back

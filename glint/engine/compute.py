@@ -371,7 +371,7 @@ def compute_window(
                     ang["sun_zenith"][seen] = sp.zenith
                     ang["sun_azimuth"][seen] = sp.azimuth
     else:
-        ang = _exact_angles(scene, plan.time, rr, cc)
+        ang = dict(_exact_angles(scene, plan.time, rr, cc))
 
     f32 = {k: np.ascontiguousarray(v, dtype=np.float32) for k, v in ang.items()}
     return _kernel_outputs(f32, params, scene.classes, variables)
@@ -522,7 +522,7 @@ def scene_attributes(scene: Scene, time: np.datetime64, plan: GeometryPlan | Non
     s = scene.surface
     attrs: dict[str, Any] = {
         "scene_name": scene.name,
-        "scene_time": str(np.datetime_as_string(np.datetime64(time, "s"), unit="s")) + "Z",
+        "scene_time": f"{np.datetime_as_string(time, unit='s')}Z",
         "wind_speed": float(s.wind_speed),
         "wind_height": float(s.wind_height),
         "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),

@@ -657,7 +657,7 @@ class Grid:
         plan = _lonlat_plan(self)
         if plan is None:
             return self.lonlat(*self.window_xy(row_start, row_stop))
-        lon = plan.interpolate("longitude", rows, cols)
+        lon = np.asarray(plan.interpolate("longitude", rows, cols), dtype=float)
         lon = np.where(lon >= 180.0, lon - 360.0, lon)
         return lon, np.asarray(plan.interpolate("latitude", rows, cols), dtype=float)
 

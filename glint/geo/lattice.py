@@ -290,7 +290,7 @@ def _bilinear_azimuth_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray,
 
 def interpolate_nodes(
     values_at_nodes: ArrayLike, node_rows: ArrayLike, node_cols: ArrayLike, rows: ArrayLike,
-    cols: ArrayLike, *, dtype: DTypeLike = None,
+    cols: ArrayLike, *, dtype: DTypeLike | None = None,
 ) -> NDArray[np.floating]:
     """Bilinear interpolation from a node lattice to pixel rows and columns.
 

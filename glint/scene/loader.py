@@ -329,9 +329,9 @@ def _check_keys(section: str, table: Mapping[str, Any], problems: _Problems) -> 
                          f"{_show(value)}")
             continue
         if k.check is not None:
-            msg = k.check(value)
-            if msg:
-                problems.add(path, msg)
+            bad = k.check(value)
+            if bad:
+                problems.add(path, bad)
                 continue
         good[key] = value
     for key, k in spec.items():
@@ -441,8 +441,8 @@ def _build_grid(table: Mapping[str, Any], base_dir: Path, problems: _Problems) -
         if box_keys:
             return Grid.from_lonlat_box(good["west"], good["south"], good["east"],
                                         good["north"], good["resolution"], crs=crs)
-        return Grid.from_bounds(tuple(float(v) for v in good["bounds"]), good["resolution"],
-                                crs)
+        left, bottom, right, top = (float(v) for v in good["bounds"])
+        return Grid.from_bounds((left, bottom, right, top), good["resolution"], crs)
     except (GridError, InputError) as exc:
         problems.add("grid", str(exc))
     return None
@@ -493,9 +493,9 @@ def _check_sensor_time(sensor: Sensor, times: Sequence[np.datetime64],
         return
     other = [t for t in times if t != pinned]
     if other:
-        shown = ", ".join(str(np.datetime64(t, "s")) + "Z" for t in other[:3])
+        shown = ", ".join(f"{np.datetime_as_string(t, unit='s')}Z" for t in other[:3])
         problems.add(f"sensor.{key}",
-                     f"{np.datetime64(pinned, 's')}Z differs from the scene time(s) {shown}; "
+                     f"{np.datetime_as_string(pinned, unit='s')}Z differs from the scene time(s) {shown}; "
                      f"the sensor images the scene at its own times, so leave out sensor.{key} "
                      "(it then follows the scene time, also under --time) or map that time")
 

@@ -18,7 +18,7 @@ from glint.validation import wrap_azimuth
 from glint.errors import GridError, InputFileError, SensorError
 from glint.sensors.angle_rasters import _build_pair
 from glint.sensors.base import GroundPoints, TableReader, ViewAngles, register_sensor_kind
-from glint.sensors.fixed_direction import AZIMUTH_REFERENCES
+from glint.sensors.fixed_direction import AZIMUTH_REFERENCES, AzimuthReference
 from glint.validation import check_choice
 
 __all__ = ["AngleGrid", "bilinear_at_points"]
@@ -196,7 +196,7 @@ class AngleGrid:
     summary="coarse grid of view angles with its own georeferencing, interpolated",
 )
 def _build(r: TableReader) -> AngleGrid | None:
-    def make(z: Any, a: Any, ref: str) -> AngleGrid | None:
+    def make(z: Any, a: Any, ref: AzimuthReference) -> AngleGrid | None:
         try:
             return AngleGrid.from_bands(z, a, azimuth_reference=ref)
         except (SensorError, GridError) as exc:

@@ -49,6 +49,7 @@ __all__ = [
     "lonlat_from_ecef",
     "enu_basis",
     "angles_to_position",
+    "ns_time",
     "ellipsoid_point_along",
     "local_radius",
     "heading_vector",
@@ -199,6 +200,18 @@ class Sensor(Protocol):
         ...
 
 
+def ns_time(value: Any) -> np.datetime64:
+    """``value`` (a datetime64 or anything numpy reads as one) as a
+    datetime64[ns] scalar.
+
+    Examples
+    --------
+    >>> ns_time(np.datetime64("2026-06-14T10:00:00"))
+    np.datetime64('2026-06-14T10:00:00.000000000')
+    """
+    return np.datetime64(np.asarray(value, dtype="datetime64[ns]").item(), "ns")
+
+
 # --------------------------------------------------------------------------
 # the ellipsoid helpers (one implementation for every sensor)
 # --------------------------------------------------------------------------
@@ -300,8 +313,9 @@ def enu_basis(lon: Any, lat: Any) -> tuple[tuple[np.ndarray, ...], ...]:
     return east, north, up
 
 
-def _dot(a: Sequence[np.ndarray], b: Sequence[np.ndarray]) -> np.ndarray:
-    return a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+def _dot(a: Sequence[ArrayLike] | FloatArray, b: Sequence[ArrayLike] | FloatArray) -> FloatArray:
+    (a0, a1, a2), (b0, b1, b2) = (np.asarray(v, float) for v in a), (np.asarray(v, float) for v in b)
+    return np.asarray(a0 * b0 + a1 * b1 + a2 * b2, dtype=float)
 
 
 def angles_to_position(

@@ -7,7 +7,7 @@ north and converted per pixel with the meridian convergence.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 
@@ -23,7 +23,8 @@ from glint.sensors.base import (
 __all__ = ["FixedDirection", "AZIMUTH_REFERENCES"]
 
 #: Allowed values of ``azimuth_reference``.
-AZIMUTH_REFERENCES = ("true-north", "grid")
+AzimuthReference = Literal["true-north", "grid"]
+AZIMUTH_REFERENCES: tuple[AzimuthReference, ...] = ("true-north", "grid")
 
 
 class FixedDirection:
@@ -89,6 +90,7 @@ def _build(r: TableReader) -> FixedDirection | None:
     vz = r.number("view_zenith", low=0.0, high=90.0, high_open=True, unit="deg")
     va = r.number("view_azimuth", low=0.0, high=360.0, high_open=True, unit="deg")
     ref = r.choice("azimuth_reference", AZIMUTH_REFERENCES, default="true-north")
-    if None in (vz, va, ref):
+    if vz is None or va is None or ref is None:
         return None
-    return FixedDirection(view_zenith=vz, view_azimuth=va, azimuth_reference=ref)
+    return FixedDirection(view_zenith=vz, view_azimuth=va,
+                          azimuth_reference=cast(AzimuthReference, ref))

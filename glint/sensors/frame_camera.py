@@ -209,7 +209,7 @@ class FrameCamera:
         e, n = np.asarray(e, float), np.asarray(n, float)
         return e, n, np.full(e.shape, -self.altitude)
 
-    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, ...]:
+    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """lon, lat of ray/water intersections (NaN where the ray misses)."""
         with np.errstate(divide="ignore", invalid="ignore"):
             t = np.where(du < 0.0, self.altitude / -du, np.nan)
@@ -256,7 +256,8 @@ class FrameCamera:
     def image_to_world(self, col: Any, row: Any) -> tuple[np.ndarray, np.ndarray]:
         """Longitude and latitude [°] where the rays through image points meet
         the water; NaN for rays at or above the horizon."""
-        return self._intersect(*self.pixel_rays(col, row))
+        dx, dy, dz = self.pixel_rays(col, row)
+        return self._intersect(dx, dy, dz)
 
     def in_image(self, col: Any, row: Any) -> np.ndarray:
         """True where fractional indices fall on the image."""

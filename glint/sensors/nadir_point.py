@@ -91,6 +91,6 @@ def _build(r: TableReader) -> NadirPoint | None:
     else:
         centre = r.grid_centre("lon")
         lon, lat = centre if centre else (None, None)
-    if None in (alt, lon, lat):
+    if alt is None or lon is None or lat is None:
         return None
     return NadirPoint(lon=lon, lat=lat, altitude=alt)

@@ -9,13 +9,14 @@ points further along the track are imaged later.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 
 from glint.errors import SensorError
 from glint.validation import check_number
 from glint.sensors.base import (
+    ns_time,
     GreatCircleTrack,
     GroundPoints,
     TableReader,
@@ -41,7 +42,8 @@ GM_EARTH = 3.986004418e14
 #: Earth's nominal mean angular velocity [rad s⁻¹] (NIMA TR8350.2, 2000).
 EARTH_ROTATION_RATE = 7.292115e-5
 
-PASSES = ("ascending", "descending")
+PassDirection = Literal["ascending", "descending"]
+PASSES: tuple[PassDirection, ...] = ("ascending", "descending")
 
 
 def circular_orbit_ground_speed(altitude: float, radius: float) -> float:
@@ -214,9 +216,9 @@ class PushBroom:
             raise SensorError("give either heading or inclination (with pass_direction), not "
                               f"both or neither; got heading={heading!r}, inclination={inclination!r}")
         # Radius across the track (for the tilt) and along it (distances).
-        r_mean = local_radius(self.centre_lat, 0.0) if heading is None else None
         if heading is None:
-            if pass_direction is None:
+            r_mean = local_radius(self.centre_lat, 0.0)
+            if inclination is None or pass_direction is None:
                 raise SensorError(f"inclination needs pass_direction, one of {PASSES!r}")
             heading = ground_track_heading(self.centre_lat, inclination, pass_direction,
                                            altitude=self.altitude, radius=r_mean)
@@ -228,9 +230,7 @@ class PushBroom:
         if ground_speed is None:
             ground_speed = circular_orbit_ground_speed(self.altitude, self.radius_along)
         self.ground_speed = check_number(ground_speed, "ground_speed", 0.0, None, low_open=True, unit="m/s", error=SensorError)
-        self.centre_time = None if centre_time is None else np.datetime64(centre_time, "ns")
-        #: The attribute holding an imaging time fixed by the sensor's own
-        #: table (None: it follows the scene time).
+        self.centre_time = None if centre_time is None else ns_time(centre_time)
         eta = np.radians(self.tilt)
         k = (r_across + self.altitude) / r_across * np.sin(eta)
         if abs(k) >= 1.0:
@@ -270,7 +270,7 @@ class PushBroom:
         t0 = self.centre_time if self.centre_time is not None else time
         if t0 is None:
             raise SensorError("push-broom sensor has no centre_time and no scene time was given")
-        t0 = np.datetime64(t0, "ns")
+        t0 = ns_time(t0)
         along, across = self.track.project(points.lon, points.lat)
         x, y, z = self.track.position(along, self.altitude)
         vz, va, d = angles_to_position(points.lon, points.lat, 0.0, x, y, z)
@@ -330,8 +330,8 @@ def _build(r: TableReader) -> PushBroom | None:
     tilt = r.number("tilt", default=0.0, low=-60.0, high=60.0, low_open=True, high_open=True,
                     unit="deg")
     ok &= tilt is not None
-    if not ok:
+    if not ok or alt is None or lon is None or lat is None or tilt is None:
         return None
     return PushBroom(altitude=alt, centre_lon=lon, centre_lat=lat, heading=heading,
-                     inclination=inclination, pass_direction=pdir, centre_time=t0,
+                     inclination=inclination, pass_direction=cast(PassDirection | None, pdir), centre_time=t0,
                      ground_speed=speed, tilt=tilt)
