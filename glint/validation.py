@@ -74,11 +74,14 @@ def interval_text(
     low_open: bool = False,
     high_open: bool = False,
     unit: str = "",
+    as_interval: bool = False,
 ) -> str:
     """The requirement of an interval in words: ``"must lie in (0, 90] deg"``,
     ``"must be > 0 m"``, ``"must be <= 5"``.
 
     ``low_open``/``high_open`` exclude the bound itself; ``None`` is no bound.
+    ``as_interval`` writes half-bounded intervals with ``inf`` too
+    (``"must lie in (0, inf)"``), as the array checks of the physics do.
 
     Examples
     --------
@@ -88,6 +91,10 @@ def interval_text(
     'must be > 0 m'
     """
     u = f" {unit}" if unit else ""
+    if as_interval:
+        lo = "-inf" if low is None else f"{low:g}"
+        hi = "inf" if high is None else f"{high:g}"
+        return f"must lie in {'(' if low_open else '['}{lo}, {hi}{')' if high_open else ']'}{u}"
     if low is None and high is None:
         return "must be a finite number" + u
     if high is None:
@@ -127,6 +134,7 @@ def interval_problem(
     unit: str = "",
     allow_nonfinite: bool = False,
     sep: str = "; got",
+    as_interval: bool = False,
 ) -> str | None:
     """What is wrong with ``value`` against an interval, or ``None``.
 
@@ -150,7 +158,8 @@ def interval_problem(
     if not np.any(bad):
         return None
     example = float(arr[bad].flat[0]) if arr.ndim else float(arr)
-    text = interval_text(low, high, low_open=low_open, high_open=high_open, unit=unit)
+    text = interval_text(low, high, low_open=low_open, high_open=high_open, unit=unit,
+                         as_interval=as_interval)
     return f"{text}{sep} {example!r}"
 
 
@@ -179,7 +188,7 @@ def check_range(
     >>> check_range(0.0, "distance", 0, None, low_open=True)
     Traceback (most recent call last):
     ...
-    glint.errors.InputError: distance must be > 0; got 0.0
+    glint.errors.InputError: distance must lie in (0, inf]; got 0.0
     """
     if low_inclusive is not None:
         low_open = not low_inclusive
@@ -187,7 +196,7 @@ def check_range(
         high_open = not high_inclusive
     arr = np.asarray(value, dtype=float)
     msg = interval_problem(arr, low, high, low_open=low_open, high_open=high_open,
-                           unit=unit, allow_nonfinite=True)
+                           unit=unit, allow_nonfinite=True, as_interval=True)
     if msg is not None:
         n = int(np.sum(outside_interval(arr, low, high, low_open=low_open, high_open=high_open)
                        & np.isfinite(arr)))
