@@ -668,7 +668,7 @@ def _check_limits(value: np.ndarray, name: str, low: float | None,
     check_range(value, name, low, high, **kw)
 
 
-def _solar_position(time, latitude, longitude, *, elevation=0.0,
+def _solar_position(time, longitude, latitude, *, elevation=0.0,
                     pressure=1013.25, temperature=12.0, delta_t=None,
                     refraction=True,
                     backend: Literal["numba", "numpy"] = "numba") -> SolarPosition:
@@ -717,8 +717,8 @@ def _solar_position(time, latitude, longitude, *, elevation=0.0,
 
 def solar_position(
     time: Any,
-    latitude: Any,
     longitude: Any,
+    latitude: Any,
     *,
     elevation: Any = 0.0,
     pressure: Any = 1013.25,
@@ -733,11 +733,11 @@ def solar_position(
     time : datetime64, aware datetime, pandas time, or array of those
         UTC instants (see :func:`to_utc_datetime64`); broadcasts against the
         other inputs.
-    latitude : array_like
-        Geodetic latitude [°], in [-90, 90].
     longitude : array_like
         Longitude [°], positive east, in [-180, 360] (values above 180 are
         read as east longitudes, so 270 == -90).
+    latitude : array_like
+        Geodetic latitude [°], in [-90, 90].
     elevation : array_like, optional
         Observer height [m] above the ellipsoid, in [-12000, 1e8]. Default 0.
     pressure : array_like, optional
@@ -805,13 +805,14 @@ def solar_position(
     The worked example of Reda and Andreas (2004):
 
     >>> import numpy as np
-    >>> sp = solar_position(np.datetime64("2003-10-17T19:30:30"), 39.742476,
-    ...                     -105.1786, elevation=1830.14, pressure=820.0,
+    >>> sp = solar_position(np.datetime64("2003-10-17T19:30:30"),
+    ...                     longitude=-105.1786, latitude=39.742476,
+    ...                     elevation=1830.14, pressure=820.0,
     ...                     temperature=11.0, delta_t=67.0)
     >>> round(float(sp.zenith), 5), round(float(sp.azimuth), 5)
     (50.11162, 194.34024)
     """
-    return _solar_position(time, latitude, longitude, elevation=elevation,
+    return _solar_position(time, longitude, latitude, elevation=elevation,
                            pressure=pressure, temperature=temperature,
                            delta_t=delta_t, refraction=refraction,
                            backend="numba")
