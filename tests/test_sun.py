@@ -13,7 +13,7 @@ from hypothesis import strategies as st
 from hypothesis.extra import numpy as hnp
 
 from glint import times
-from glint.physics import sun
+from glint.physics import spa_time, sun
 from glint.errors import InputError, ValidityWarning
 
 pd = pytest.importorskip("pandas")
@@ -537,7 +537,7 @@ def test_time_terms_per_distinct_time_and_delta_t():
 def test_time_terms_in_blocks_match_one_pass(monkeypatch):
     times = np.datetime64("2024-06-01", "ns") + np.arange(50) * np.timedelta64(7, "h")
     whole = sun.time_terms(times, delta_t=69.0)
-    monkeypatch.setattr(sun, "_TIME_BLOCK", 8)
+    monkeypatch.setattr(spa_time, "_TIME_BLOCK", 8)  # the time terms live in spa_time
     blocks = sun.time_terms(times, delta_t=69.0)
     for a, b in zip(whole, blocks):
         np.testing.assert_array_equal(a, b)

@@ -72,7 +72,7 @@ _FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
 
 
 @njit(cache=True, fastmath=_FASTMATH, error_model="numpy", inline="always")
-def _nb_fresnel(ci, n, F):  # pragma: no cover - compiled
+def _nb_fresnel(ci, n, F):  # type: ignore[no-untyped-def]  # pragma: no cover - compiled
     """Unpolarised Fresnel reflectance; mirrors optics.fresnel_amplitudes."""
     ct2 = F(1.0) - (F(1.0) - ci * ci) / (n * n)
     if ct2 < F(0.0):
@@ -87,7 +87,7 @@ def _nb_fresnel(ci, n, F):  # pragma: no cover - compiled
 
 
 @njit(cache=True, fastmath=_FASTMATH, error_model="numpy", inline="always")
-def _nb_gram_charlier(xi, eta, c21, c03, c40, c22, c04, F):  # pragma: no cover
+def _nb_gram_charlier(xi, eta, c21, c03, c40, c22, c04, F):  # type: ignore[no-untyped-def]  # pragma: no cover
     """Mirrors surface.gram_charlier_series (clipped at 0)."""
     xi2 = xi * xi
     eta2 = eta * eta
@@ -105,7 +105,7 @@ def _nb_gram_charlier(xi, eta, c21, c03, c40, c22, c04, F):  # pragma: no cover
 
 
 @njit(cache=True, fastmath=_FASTMATH, error_model="numpy", inline="always")
-def _nb_shadowing(cos_t, sigma2, F):  # pragma: no cover - compiled
+def _nb_shadowing(cos_t, sigma2, F):  # type: ignore[no-untyped-def]  # pragma: no cover - compiled
     """Smith's (1967) one-way shadowing factor; mirrors surface.shadowing."""
     sin_t = math.sqrt(max(F(1.0) - cos_t * cos_t, F(0.0)))
     if sin_t == F(0.0):
@@ -120,7 +120,7 @@ def _nb_shadowing(cos_t, sigma2, F):  # pragma: no cover - compiled
 
 
 @njit(cache=True, fastmath=_FASTMATH, error_model="numpy", inline="always")
-def _nb_sincosd(d, F):  # pragma: no cover - compiled
+def _nb_sincosd(d, F):  # type: ignore[no-untyped-def]  # pragma: no cover - compiled
     """Sine and cosine of an angle in degrees (float64 ``d``), evaluated in
     the precision ``F``.
 
@@ -158,7 +158,7 @@ _CHUNK = 512
 
 
 @njit(parallel=True, cache=True, fastmath=_FASTMATH, error_model="numpy")
-def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,
+def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type: ignore[no-untyped-def]
                gc, use_gc, shadow, mss_shadow, omega_sun,
                o_angle, o_refl, o_rad, o_frac, F):  # pragma: no cover - compiled
     """One pass over the pixels; returns the number of pixels with a zenith
@@ -286,14 +286,14 @@ def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,
 
 
 def _kernel_params(
-    refractive_index: Any,
-    sigma2_crosswind: Any,
-    sigma2_upwind: Any,
-    wind_direction: Any,
-    sun_solid_angle: Any,
+    refractive_index: ArrayLike,
+    sigma2_crosswind: ArrayLike,
+    sigma2_upwind: ArrayLike,
+    wind_direction: ArrayLike,
+    sun_solid_angle: ArrayLike,
     distribution: str,
     gram_charlier: Mapping[str, Any] | None,
-    shadowing: Any,
+    shadowing: ArrayLike,
     backend: str,
 ) -> dict[str, Any]:
     """Validate the scalar parameters of :func:`glint_kernel`."""
@@ -342,7 +342,7 @@ def _kernel_params(
 
 
 def _kernel_inputs(
-    sun_zenith: Any, sun_azimuth: Any, view_zenith: Any, view_azimuth: Any
+    sun_zenith: ArrayLike, sun_azimuth: ArrayLike, view_zenith: ArrayLike, view_azimuth: ArrayLike
 ) -> tuple[dict[str, np.ndarray], tuple[int, ...], Any]:
     """Angle arrays as contiguous float32 or float64 arrays of one shape."""
     raw = {
@@ -398,10 +398,10 @@ def _kernel_outputs(
 
 
 def glint_kernel(
-    sun_zenith: Any,
-    sun_azimuth: Any,
-    view_zenith: Any,
-    view_azimuth: Any,
+    sun_zenith: ArrayLike,
+    sun_azimuth: ArrayLike,
+    view_zenith: ArrayLike,
+    view_azimuth: ArrayLike,
     *,
     refractive_index: float,
     sigma2_crosswind: float,
@@ -539,7 +539,7 @@ def glint_kernel(
     flat = [arrays[k].reshape(-1) for k in ("sun_zenith", "sun_azimuth", "view_zenith",
                                              "view_azimuth")]
     outs = [res[k].reshape(-1) for k in KERNEL_OUTPUTS]
-    nbad = _nb_kernel(
+    nbad = _nb_kernel(  # type: ignore[call-arg]
         *flat, F(p["n"]), F(p["s2c"]), F(p["s2u"]), p["wd"] if p["aniso"] else 0.0,
         p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], F(mss_shadow),
         F(p["omega_sun"]), *outs, F,
@@ -586,7 +586,7 @@ def warmup(*, float64: bool = False) -> None:
     --------
     >>> warmup()
     """
-    combos = [(np.float32, np.float32)]
+    combos: list[tuple[type[np.floating[Any]], type[np.floating[Any]]]] = [(np.float32, np.float32)]
     if _check_bool(float64, "float64"):
         combos += [(np.float64, np.float32), (np.float64, np.float64)]
     for dtype, odtype in combos:

@@ -31,12 +31,12 @@ from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Literal
 
-import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
 from glint.errors import InputError
+from glint.physics.shadowing import bidirectional_shadowing, shadowing, smith_shadowing
+from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
 
 __all__ = [
     "SLOPE_MODELS",
@@ -92,6 +92,9 @@ SLOPE_DISTRIBUTIONS: tuple[str, ...] = ("gaussian", "gram-charlier")
 WHITECAP_METHODS: tuple[str, ...] = ("monahan-ocmuircheartaigh", "stramska-petelski")
 
 FloatArray = NDArray[np.float64]
+#: A float or a float array: the building blocks below are plain arithmetic
+#: and run on either (and under numba.njit on scalars).
+Real = float | NDArray[np.floating]
 SlopeLaw = Callable[[FloatArray], tuple[FloatArray, FloatArray]]
 
 
@@ -497,7 +500,7 @@ def gram_charlier_coefficients(
     }
 
 
-def wind_frame_slopes(zx: Any, zy: Any, wind_direction: Any) -> tuple[Any, Any]:
+def wind_frame_slopes(zx: Real, zy: Real, wind_direction: Real) -> tuple[Real, Real]:
     """Rotate east/north slopes into the wind frame.
 
     Parameters
@@ -534,8 +537,8 @@ def wind_frame_slopes(zx: Any, zy: Any, wind_direction: Any) -> tuple[Any, Any]:
 
 
 def anisotropic_gaussian_pdf(
-    z_crosswind: Any, z_upwind: Any, sigma2_crosswind: Any, sigma2_upwind: Any
-) -> Any:
+    z_crosswind: Real, z_upwind: Real, sigma2_crosswind: Real, sigma2_upwind: Real
+) -> Real:
     """Bivariate Gaussian slope density with independent wind-frame axes.
 
     Parameters
@@ -569,8 +572,8 @@ def anisotropic_gaussian_pdf(
 
 
 def gram_charlier_series(
-    xi: Any, eta: Any, c21: Any, c03: Any, c40: Any, c22: Any, c04: Any
-) -> Any:
+    xi: Real, eta: Real, c21: Real, c03: Real, c40: Real, c22: Real, c04: Real
+) -> Real:
     """Gram-Charlier factor multiplying the Gaussian slope density.
 
     Parameters
@@ -719,6 +722,7 @@ def slope_pdf(
         if wind_direction is None:
             s2 = 0.5 * (s2c + s2u)
             return np.asarray(anisotropic_gaussian_pdf(zx, zy, s2, s2), dtype=float)
+        assert phi is not None
         zc, zu = wind_frame_slopes(zx, zy, phi)
         p = anisotropic_gaussian_pdf(zc, zu, s2c, s2u)
         if distribution == "gram-charlier":
@@ -731,12 +735,12 @@ def slope_pdf(
 
 
 def wind_speed_at_height(
-    wind_speed: Any,
-    height: Any,
+    wind_speed: ArrayLike,
+    height: ArrayLike,
     *,
-    target_height: Any = 10.0,
-    roughness_length: Any = ROUGHNESS_LENGTH,
-) -> np.ndarray:
+    target_height: ArrayLike = 10.0,
+    roughness_length: ArrayLike = ROUGHNESS_LENGTH,
+) -> FloatArray:
     """Convert a wind speed between heights with the logarithmic profile.
 
     Parameters
@@ -797,8 +801,8 @@ def wind_speed_at_height(
 
 
 def whitecap_fraction(
-    wind_speed: Any, *, method: WhitecapMethod = "monahan-ocmuircheartaigh"
-) -> np.ndarray:
+    wind_speed: ArrayLike, *, method: WhitecapMethod = "monahan-ocmuircheartaigh"
+) -> FloatArray:
     """Fraction of the sea surface covered by whitecaps.
 
     Parameters
@@ -849,176 +853,3 @@ def whitecap_fraction(
     else:
         f = 8.75e-5 * np.maximum(w - 6.33, 0.0) ** 3
     return np.asarray(np.clip(f, 0.0, 1.0), dtype=float)
-
-
-def smith_shadowing(cos_zenith: float, sin_zenith: float, mean_square_slope: float) -> float:
-    """Smith's (1967) one-way shadowing factor of one direction (scalar).
-
-    The formula of :func:`shadowing`, written once for scalars so that the
-    compiled glint kernel calls it (``numba.njit``) and :func:`shadowing`
-    maps it over arrays (``numba.vectorize``).
-
-    Parameters
-    ----------
-    cos_zenith, sin_zenith : float
-        Cosine and sine of the zenith angle of the direction, zenith in
-        [0, 90] °.
-    mean_square_slope : float
-        Mean square slope [1] in the vertical plane of the direction.
-
-    Returns
-    -------
-    float
-        Shadowing factor [1] in [0, 1]; 1 at nadir (``sin_zenith == 0``).
-
-    Notes
-    -----
-    :math:`\\nu = \\cot\\theta/\\sqrt{2\\sigma^2}`,
-    :math:`\\Lambda = (e^{-\\nu^2}/(\\nu\\sqrt\\pi) - \\operatorname{erfc}\\nu)/2`,
-    :math:`S = (1 - \\operatorname{erfc}(\\nu)/2)/(\\Lambda + 1)`, clipped
-    to [0, 1]. Plain arithmetic and ``math``; no checks.
-
-    References
-    ----------
-    Smith, B.G. (1967). IEEE Trans. Antennas Propag. 15(5), 668-671,
-    doi:10.1109/TAP.1967.1138991.
-
-    Examples
-    --------
-    >>> smith_shadowing(1.0, 0.0, 0.02)
-    1.0
-    """
-    den = sin_zenith * math.sqrt(2.0 * mean_square_slope)
-    if den == 0.0:  # nadir, or a flat surface: nothing is shadowed
-        return 1.0
-    nu = cos_zenith / den
-    if nu == 0.0:  # grazing
-        return 0.0
-    ec = math.erfc(nu)
-    lam = 0.0 if math.isinf(nu) else 0.5 * (math.exp(-nu * nu) / (nu * 1.7724538509055159) - ec)
-    s = (1.0 - 0.5 * ec) / (lam + 1.0)
-    # comparisons, not min/max, so that NaN flows through
-    if s < 0.0:
-        s = 0.0
-    elif s > 1.0:
-        s = 1.0
-    return s
-
-
-_SMITH_UFUNC: numba.np.ufunc.dufunc.DUFunc | None = None
-
-
-def _smith_ufunc(cos_t: FloatArray, sin_t: FloatArray, mss: FloatArray) -> FloatArray:
-    """:func:`smith_shadowing` over arrays (compiled once, on first use)."""
-    global _SMITH_UFUNC
-    if _SMITH_UFUNC is None:
-        _SMITH_UFUNC = numba.vectorize(["float64(float64, float64, float64)"],
-                                       cache=True)(smith_shadowing)
-    return np.asarray(_SMITH_UFUNC(cos_t, sin_t, mss), dtype=float)
-
-
-def shadowing(zenith: Any, mean_square_slope: Any) -> np.ndarray:
-    """Share of surface facets seen along a direction despite wave shadowing.
-
-    Parameters
-    ----------
-    zenith : array_like
-        Zenith angle of the direction (to the sun or to the sensor) [°] in
-        [0, 90].
-    mean_square_slope : array_like
-        Mean square slope [1] of the surface in the vertical plane of that
-        direction: for an isotropic surface half the total mean square slope,
-        ``(sigma2_crosswind + sigma2_upwind) / 2``; in general
-        ``sigma2_c sin²(a) + sigma2_u cos²(a)`` with ``a`` the azimuth of
-        the direction from the upwind axis.
-
-    Returns
-    -------
-    numpy.ndarray
-        One-way shadowing factor [1] in [0, 1]: 1 at nadir, 0 at the
-        horizon.
-
-    Raises
-    ------
-    InputError
-        Zenith outside [0, 90] or negative mean square slope.
-
-    Notes
-    -----
-    Smith (1967):
-
-    .. math::
-
-        S(\\theta) = \\frac{1 - \\tfrac12 \\operatorname{erfc}(\\nu)}{\\Lambda(\\nu) + 1},
-        \\quad \\nu = \\frac{\\cot\\theta}{\\sqrt{2\\sigma^2}},
-        \\quad \\Lambda = \\frac12\\left(\\frac{e^{-\\nu^2}}{\\nu\\sqrt\\pi}
-        - \\operatorname{erfc}(\\nu)\\right).
-
-    The formula is :func:`smith_shadowing`, compiled into a ufunc.
-
-    References
-    ----------
-    Smith, B.G. (1967). Geometrical shadowing of a random rough surface.
-    IEEE Trans. Antennas Propag. 15(5), 668-671,
-    doi:10.1109/TAP.1967.1138991.
-
-    Examples
-    --------
-    >>> float(shadowing(0.0, 0.02))
-    1.0
-    >>> round(float(shadowing(85.0, 0.02)), 3)
-    0.579
-    """
-    theta = as_float_array(zenith, "zenith")
-    mss = as_float_array(mean_square_slope, "mean_square_slope")
-    check_range(theta, "zenith", 0.0, 90.0, unit="°")
-    check_range(mss, "mean_square_slope", 0.0, None)
-    theta, mss = np.broadcast_arrays(theta, mss)
-    t = np.radians(theta)
-    s = _smith_ufunc(np.cos(t), np.sin(t), mss)
-    s = np.where(theta == 90.0, 0.0, s)
-    return np.asarray(np.clip(s, 0.0, 1.0), dtype=float)
-
-
-def bidirectional_shadowing(
-    sun_zenith: Any, view_zenith: Any, mean_square_slope: Any
-) -> np.ndarray:
-    """Share of facets both lit by the sun and seen by the sensor.
-
-    Parameters
-    ----------
-    sun_zenith, view_zenith : array_like
-        Zenith angles [°] in [0, 90].
-    mean_square_slope : array_like
-        Mean square slope [1] in the plane of each direction (see
-        :func:`shadowing`); one value used for both.
-
-    Returns
-    -------
-    numpy.ndarray
-        :math:`S(\\theta_s) S(\\theta_v)` [1].
-
-    Raises
-    ------
-    InputError
-        As :func:`shadowing`.
-
-    Notes
-    -----
-    The product of two one-way factors treats shadowing towards the sun and
-    masking towards the sensor as independent, the simplest of the forms
-    discussed by Sancer (1969); it underestimates the visible share when
-    sun and sensor are close together (near the backscatter direction).
-
-    References
-    ----------
-    Sancer, M.I. (1969). Shadow-corrected electromagnetic scattering from a
-    randomly rough surface. IEEE Trans. Antennas Propag. 17(5), 577-585,
-    doi:10.1109/TAP.1969.1139516.
-
-    Examples
-    --------
-    >>> float(bidirectional_shadowing(0.0, 0.0, 0.02))
-    1.0
-    """
-    return shadowing(sun_zenith, mean_square_slope) * shadowing(view_zenith, mean_square_slope)
