@@ -16,41 +16,15 @@ from glint.errors import InputFileError, OutputError, SceneError
 CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
            "never look at the sun or its reflection.")
 
-SCENE = """\
-[scene]
-name = "CLI test bay"
-time = 2026-06-14T10:30:00Z
-
-[grid]
-crs = "EPSG:32629"
-bounds = [500000.0, 4100000.0, 501000.0, 4100800.0]
-resolution = {resolution}
-
-[sensor]
-kind = "fixed-direction"
-view_zenith = 20.0
-view_azimuth = 280.0
-
-[surface]
-wind_speed = 5.0
-wind_direction = 250.0
-
-[outputs]
-formats = ["geotiff", "netcdf", "png"]
-"""
-
-
 @pytest.fixture
 def runner() -> CliRunner:
     return CliRunner()
 
 
 @pytest.fixture
-def scene_file(tmp_path: Path) -> Path:
-    path = tmp_path / "bay.toml"
+def scene_file(bay_scene_file) -> Path:
     # 1000 m x 800 m at 20 m: 40 x 50 pixels, quick to compute.
-    path.write_text(SCENE.format(resolution=20.0), encoding="utf-8")
-    return path
+    return bay_scene_file(20.0)
 
 
 def _number(text: str, label: str) -> float:
@@ -92,8 +66,8 @@ def test_exit_codes_by_error_kind():
 
 
 def test_sun_matches_pvlib(runner):
-    pvlib = pytest.importorskip("pvlib")
     import pandas as pd
+    import pvlib
 
     args = ["sun", "--lat", "37.01", "--lon", "-8.0", "--time", "2026-06-14T11:30:00+01:00"]
     result = runner.invoke(cli, args)
@@ -284,7 +258,42 @@ def test_map_bad_override_value(runner, tmp_path, scene_file):
     result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o"),
                                  "--wind-direction", "400"])
     assert result.exit_code == 2
-    assert "surface.wind_direction: must lie in [0, 360) deg; got 400.0" in result.stderr
+    # Named as typed on the command line, not by the scene key it replaces.
+    assert "--wind-direction: must lie in [0, 360) deg; got 400.0" in result.stderr
+    assert "surface.wind_direction" not in result.stderr
+
+
+@pytest.mark.parametrize("command, args, expected", [
+    ("map", ["--wind-speed", "-1"], "Error: --wind-speed: must be >= 0 m/s; got -1.0"),
+    ("map", ["--wind-direction", "-5"], "Error: --wind-direction: must lie in [0, 360) deg"),
+    ("camera-view", ["--pitch", "120"], "Error: --pitch: "),
+    ("camera-view", ["--heading", "-400"], "Error: --heading: "),
+])
+def test_bad_overrides_named_as_typed(runner, tmp_path, examples, command, args, expected):
+    scene = examples / ("drone_cove_survey.toml" if command == "camera-view"
+                        else "coastal_inlet_morning.toml")
+    result = runner.invoke(cli, [command, str(scene), "-o", str(tmp_path / "o"), *args])
+    assert result.exit_code == 2, result.output
+    assert result.stderr.startswith(expected), result.stderr
+    assert "surface." not in result.stderr and "sensor." not in result.stderr
+    assert not (tmp_path / "o").exists()
+
+
+def test_file_and_option_problems_each_named_by_their_source(runner, tmp_path, scene_file):
+    scene_file.write_text(scene_file.read_text().replace("view_zenith = 20.0", "view_zenith = 95.0"))
+    result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o"),
+                                 "--wind-speed", "-2"])
+    assert result.exit_code == 2
+    assert f"invalid scene {scene_file} (2 problems)" in result.stderr
+    assert "--wind-speed: must be >= 0 m/s; got -2.0" in result.stderr
+    assert "sensor.view_zenith" in result.stderr
+
+
+def test_bad_value_in_file_keeps_its_key_path(runner, tmp_path, scene_file):
+    scene_file.write_text(scene_file.read_text().replace("wind_speed = 5.0", "wind_speed = -3.0"))
+    result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o")])
+    assert result.exit_code == 2
+    assert "surface.wind_speed: must be >= 0 m/s; got -3.0" in result.stderr
 
 
 @pytest.mark.parametrize("option, value", [("--format", "jpeg"), ("--variable", "brightness")])
@@ -297,12 +306,11 @@ def test_map_bad_choice(runner, tmp_path, scene_file, option, value):
 
 
 # --------------------------------------------------------------------------
-# glint map: writing (needs glint.workflows.maps)
+# glint map: writing
 # --------------------------------------------------------------------------
 
 
 def _map(runner, scene_file, outdir, *extra):
-    pytest.importorskip("glint.workflows.maps")
     return runner.invoke(cli, ["map", str(scene_file), "-o", str(outdir), *extra])
 
 
@@ -358,7 +366,8 @@ def test_map_unwritable_output(runner, tmp_path, scene_file):
 
 
 def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
-    rasterio = pytest.importorskip("rasterio")
+    import rasterio
+
     outdir = tmp_path / "out"
     result = _map(runner, scene_file, outdir, "--format", "geotiff",
                   "--variable", "glint_reflectance", "--variable", "glint_angle",
