@@ -3,7 +3,12 @@
 from __future__ import annotations
 
 import math
+import os
 import re
+import signal
+import subprocess
+import sys
+import time
 from pathlib import Path
 
 import numpy as np
@@ -12,6 +17,7 @@ from click.testing import CliRunner
 
 from glint.cli.main import cli, exit_code_for
 from glint.errors import InputFileError, OutputError, SceneError
+from glint.io.outputset import TEMP_PREFIX
 
 CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
            "never look at the sun or its reflection.")
@@ -384,3 +390,46 @@ def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
         assert src.shape == (40, 50)  # 800 m x 1000 m at 20 m (arithmetic)
         data = src.read()
     assert np.isfinite(data).all()
+
+
+# --------------------------------------------------------------------------
+# glint map stopped by a signal: the real command in a real process
+# --------------------------------------------------------------------------
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("sig, code", [(signal.SIGINT, 130), (signal.SIGTERM, 143)])
+def test_map_stopped_by_signal_leaves_nothing(tmp_path, inlet_scene_file, sig, code):
+    """Ctrl-C (SIGINT) and a scheduler's SIGTERM mid-write: no temporary, no
+    partial set, the shell's 128 + signal exit status (common practice), one
+    line of explanation, and a re-run that needs no --overwrite."""
+    root = Path(__file__).resolve().parents[1]
+    scene = inlet_scene_file(2.5)  # about 1400 x 1200 pixels: several seconds of work
+    out = tmp_path / "out"
+    cmd = [sys.executable, "-m", "glint", "map", str(scene), "-o", str(out)]
+    proc = subprocess.Popen(
+        cmd, cwd=root, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+        env={**os.environ, "PYTHONPATH": str(root)},
+        # a shell's background jobs ignore SIGINT; Ctrl-C reaches a foreground one
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    try:
+        deadline = time.monotonic() + 300  # generous: two shared cores
+        while not (out.is_dir() and any(p.name.startswith(TEMP_PREFIX) for p in out.iterdir())):
+            assert proc.poll() is None, proc.communicate()
+            assert time.monotonic() < deadline, "no temporary file appeared"
+            time.sleep(0.05)
+        proc.send_signal(sig)
+        stdout, stderr = proc.communicate(timeout=300)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+    assert proc.returncode == code, stderr
+    lines = stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(f"Stopped by {sig.name}"), stderr
+    assert "Wrote" not in stdout
+    assert not out.exists() or list(out.iterdir()) == []
+    again = subprocess.run(cmd, cwd=root, capture_output=True, text=True, timeout=600,
+                           env={**os.environ, "PYTHONPATH": str(root)})
+    assert again.returncode == 0, again.stderr
+    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".tif", ".tif"]
