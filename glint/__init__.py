@@ -2,7 +2,7 @@
 
 The physics layer (``glint.physics.sun``, ``glint.physics.optics``, ``glint.physics.surface``,
 ``glint.physics.facets``, ``glint.physics.reflect``) is pure numpy and usable on its own;
-``glint.geo.grid``, ``glint.scene``, ``glint.engine.compute`` and ``glint.io.writers`` turn it
+``glint.geo.grid``, ``glint.scene``, ``glint.engine.compute`` and ``glint.io`` turn it
 into georeferenced maps.
 
 Glint maps are statistical estimates of how bright the water surface can
