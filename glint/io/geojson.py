@@ -38,8 +38,8 @@ def footprint_feature_collection(lon: ArrayLike, lat: ArrayLike,
     Examples
     --------
     >>> fc = footprint_feature_collection([0, 0, 1, 1], [0, 1, 1, 0], {"name": "a"})
-    >>> fc["features"][0]["geometry"]["coordinates"][0]
-    [[0.0, 0.0], [1.0, 0.0], [1.0, 1.0], [0.0, 1.0], [0.0, 0.0]]
+    >>> fc["features"][0]["geometry"]["coordinates"][0]  # the clockwise input, reversed
+    [[1.0, 0.0], [1.0, 1.0], [0.0, 1.0], [0.0, 0.0], [1.0, 0.0]]
     """
     x, y = np.asarray(lon, float).ravel(), np.asarray(lat, float).ravel()
     signed_area = 0.5 * np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y)  # shoelace
