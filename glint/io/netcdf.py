@@ -320,10 +320,10 @@ class NetCDFWriter:
             return
         coords = self.grid.cf_coordinates()
         for name, dim in (("y", ydim), ("x", xdim)):
-            values, cattrs = coords[name]
+            axis_values, axis_attrs = coords[name]
             v = nc.createVariable(dim, "f8", (dim,))
-            v.setncatts(cattrs)
-            v[:] = values
+            v.setncatts(axis_attrs)
+            v[:] = axis_values
         crs = nc.createVariable("crs", "i4", ())
         crs.setncatts(self.grid.to_cf())
 
