@@ -127,7 +127,8 @@ def plan_calendar_chart(path: str | Path, dates: Sequence[Any], slot_hours: Arra
     hrs = np.asarray(slot_hours, float)
     nd = len(dates)
     dh = float(hrs[1] - hrs[0]) if hrs.size > 1 else 1.0
-    fig, ax = plt.subplots(figsize=(min(16.0, 5.0 + 0.28 * nd), 6.0), dpi=110, layout="constrained")
+    fig, ax = plt.subplots(figsize=(min(16.0, max(9.0, 5.0 + 0.28 * nd)), 6.0), dpi=110,
+                           layout="constrained")
     fig.get_layout_engine().set(rect=(0.0, 0.05, 1.0, 0.95))
     m = max_share * 100.0
     bounds = [0.0, m / 4, m / 2, m, 2 * m, 5 * m, 100.0]
@@ -187,7 +188,7 @@ def satellite_calendar_chart(path: str | Path, dates: Sequence[Any], offsets_km:
     r = np.asarray(reflectance, float)
     off = np.asarray(offsets_km, float)
     nd = len(dates)
-    fig, (ax, ax2) = plt.subplots(2, 1, figsize=(min(16.0, 6.0 + 0.12 * nd), 7.0), dpi=110,
+    fig, (ax, ax2) = plt.subplots(2, 1, figsize=(min(16.0, max(9.0, 6.0 + 0.12 * nd)), 7.0), dpi=110,
                                   height_ratios=[3, 1], sharex=True, layout="constrained")
     fig.get_layout_engine().set(rect=(0.0, 0.05, 1.0, 0.95))
     lo = max(1e-5, threshold / 100.0)

@@ -218,7 +218,8 @@ def _write_calendar(out: OutputSet, scan: SurveyScan) -> None:
             for w in scan.windows if w.date in day_index and w.end_local.date() == w.date]
     charts.plan_calendar_chart(
         out.temp("calendar"), days, slot_hours, grid, outside, wins,
-        title=f"{s.name}: best predicted glint share, {days[0].isoformat()} to {days[-1].isoformat()}",
+        title=f"{s.name}\nbest predicted glint share of the photo, {days[0].isoformat()} to "
+              f"{days[-1].isoformat()}",
         max_share=s.limits.max_glint_share, timezone_label=s.timezone, caution=PLAN_CAUTION)
 
 
@@ -239,12 +240,12 @@ def _write_preview(out: OutputSet, scan: SurveyScan, time: np.datetime64, headin
     local = to_local(time, s.tz)
     quicklook.quicklook(
         refl, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), out.temp("preview"),
-        title=f"{s.name}: predicted glint in the photo (plan estimate only; check airspace, "
-              "weather, line of sight, local rules)",
-        subtitle=f"{local.isoformat(timespec='minutes')} local ({format_time(time, 'text')}); "
+        title=f"{s.name}: predicted glint in the photo",
+        subtitle=f"{local.isoformat(timespec='minutes')} local ({format_time(time, 'text')})\n"
                  f"heading {heading:g}°, pitch {pitch:g}°; sun elevation "
                  f"{scan.sun_elevation[k]:.1f}°, azimuth {scan.sun_azimuth[k]:.1f}°; "
-                 f"share above {s.limits.glint_threshold:g}: {share * 100:.1f} %",
+                 f"share above {s.limits.glint_threshold:g}: {share * 100:.1f} %\n"
+                 "Plan estimate only: check airspace, weather, line of sight and local rules.",
         label="glint reflectance factor [1] (fixed scale)", axis_units="px", vmax=VIEW_SCALE_MAX,
         xlabel="image column [px]", ylabel="image row [px]")
     return {"utc": format_time(time), "local": local.isoformat(), "heading": heading,

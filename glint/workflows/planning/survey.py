@@ -379,8 +379,9 @@ def _date(r: TableReader, name: str) -> _dt.date | None:
     return v
 
 
-def _unknown_keys(section: str, table: Mapping[str, Any], problems: list[str]) -> None:
-    allowed = SURVEY_SECTIONS[section]
+def _unknown_keys(section: str, table: Mapping[str, Any], problems: list[str],
+                  allowed: Sequence[str] | None = None) -> None:
+    allowed = tuple(SURVEY_SECTIONS[section] if allowed is None else allowed)
     for key in table:
         if key not in allowed:
             close = difflib.get_close_matches(str(key), list(allowed), n=1)
