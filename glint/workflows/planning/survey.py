@@ -443,9 +443,6 @@ def check_polygon(ring: Any, name: str) -> tuple[tuple[tuple[float, float], ...]
     x, y = xy[:, 0], xy[:, 1]
     cross = x * np.roll(y, -1) - np.roll(x, -1) * y
     area = 0.5 * float(np.sum(cross))
-    if abs(area) < 1e-6:
-        raise InputError(f"{name}: the polygon is empty (zero area): its vertices "
-                         f"{pts.tolist()!r} lie on one line")
     n = len(xy)
     for i in range(n):
         for j in range(i + 1, n):
@@ -455,6 +452,9 @@ def check_polygon(ring: Any, name: str) -> tuple[tuple[tuple[float, float], ...]
                 raise InputError(
                     f"{name}: the polygon crosses itself (edge {i + 1} from {pts[i].tolist()!r} "
                     f"meets edge {j + 1} from {pts[j].tolist()!r}); give a simple ring")
+    if abs(area) < 1e-6:
+        raise InputError(f"{name}: the polygon is empty (zero area): its vertices "
+                         f"{pts.tolist()!r} lie on one line")
     extent = float(np.max(np.hypot(*(xy[:, None, :] - xy[None, :, :]).transpose(2, 0, 1)))) / 1e3
     if extent > MAX_SITE_EXTENT_KM:
         raise InputError(f"{name}: the polygon spans {extent:.1f} km; at most "
