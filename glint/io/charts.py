@@ -133,8 +133,8 @@ def plan_calendar_chart(path: str | Path, dates: Sequence[Any], slot_hours: Arra
     m = max_share * 100.0
     bounds = [0.0, m / 4, m / 2, m, 2 * m, 5 * m, 100.0]
     bounds = sorted(set(b for b in bounds if b <= 100.0))
-    cmap = ListedColormap(["#1a9850", "#91cf60", "#d9ef8b", "#fdae61", "#f46d43", "#a50026"][:len(bounds) - 1])
-    cmap = cmap.with_extremes(bad="#263238")
+    cmap: Any = ListedColormap(["#1a9850", "#91cf60", "#d9ef8b", "#fdae61", "#f46d43",
+                                "#a50026"][:len(bounds) - 1]).with_extremes(bad="#263238")
     norm = BoundaryNorm(bounds, cmap.N)
     extent = (-0.5, nd - 0.5, hrs[-1] + dh / 2, hrs[0] - dh / 2)
     im = ax.imshow(np.ma.masked_invalid(v), aspect="auto", extent=extent, cmap=cmap, norm=norm,

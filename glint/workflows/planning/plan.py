@@ -36,6 +36,7 @@ from glint.errors import InputError
 from glint.io import charts
 from glint.io import quicklook
 from glint.io.outputset import OutputSet
+from glint.sensors import FrameCamera
 from glint.times import format_time
 from glint.workflows.planning.survey import PLAN_CAUTION, Survey, local_dates, to_local
 from glint.workflows.planning.windows import SurveyScan, Window, scan_survey, survey_scene
@@ -87,11 +88,9 @@ def preview_pose(scan: SurveyScan, time: Any = None) -> tuple[np.datetime64, flo
     """
     t = time if time is not None else scan.survey.preview_time
     if t is not None:
-        t64 = np.datetime64(t, "ns") if isinstance(t, np.datetime64) else None
-        if t64 is None:
-            from glint.times import to_utc_datetime64
+        from glint.times import to_utc_datetime64
 
-            t64 = np.asarray(to_utc_datetime64(t)).reshape(-1)[0].astype("datetime64[ns]")
+        t64: Any = np.asarray(to_utc_datetime64(t)).reshape(-1)[0].astype("datetime64[ns]")
         half_step = np.timedelta64(scan.survey.step_minutes * 30, "s")
         if t64 < scan.times[0] - half_step or t64 > scan.times[-1] + half_step:
             raise InputError(f"preview time {format_time(t64)!r} lies outside the plan's dates "
@@ -233,6 +232,7 @@ def _write_preview(out: OutputSet, scan: SurveyScan, time: np.datetime64, headin
     wd = None if math.isnan(scan.wind_direction[k]) else float(scan.wind_direction[k])
     scene = survey_scene(s, heading=heading, pitch=pitch, time=time, wind_speed=ws, wind_direction=wd)
     cam = scene.sensor
+    assert isinstance(cam, FrameCamera)
     step = max(1, math.ceil(max(cam.cols, cam.rows) / PREVIEW_MAX_SIDE))
     ds = camera_view(scene, time=time, step=step, variables=["glint_reflectance"])
     refl = ds.glint_reflectance.values

@@ -348,7 +348,9 @@ def scan_times(start: _dt.date, end: _dt.date, tz: _dt.tzinfo,
     t1 = _dt.datetime.combine(end + _dt.timedelta(days=1), _dt.time(0), tzinfo=tz)
     a = to_utc_datetime64(t0).astype("datetime64[ns]")
     b = to_utc_datetime64(t1).astype("datetime64[ns]")
-    return np.arange(a, b, np.timedelta64(int(step_minutes) * 60, "s")).astype("datetime64[ns]")
+    first: Any = a.reshape(-1)[0]
+    stop: Any = b.reshape(-1)[0]
+    return np.arange(first, stop, np.timedelta64(int(step_minutes) * 60, "s")).astype("datetime64[ns]")
 
 
 def to_local(time: Any, tz: _dt.tzinfo) -> _dt.datetime:
@@ -513,8 +515,8 @@ def _nc_wind(path: Path, lon: float, lat: float) -> tuple[NDArray[Any], NDArray[
     import xarray as xr
 
     with xr.open_dataset(path) as ds:
-        by_std = {str(v.attrs.get("standard_name", "")): name for name, v in ds.data_vars.items()}
-        names = set(ds.data_vars)
+        by_std = {str(v.attrs.get("standard_name", "")): str(name) for name, v in ds.data_vars.items()}
+        names = {str(n) for n in ds.data_vars}
 
         def pick(std: str) -> str | None:
             return by_std.get(std) or (std if std in names else None)
@@ -705,9 +707,9 @@ def survey_from_dict(data: Mapping[str, Any], *, base_dir: str | Path = ".",
 
     # [survey]
     rs = reader("survey")
-    name = tables["survey"].get("name")
-    if not isinstance(name, str) or not name.strip():
-        rs.problem("name", f"required: a non-empty text naming the survey; got {name!r}")
+    title: Any = tables["survey"].get("name")
+    if not isinstance(title, str) or not title.strip():
+        rs.problem("name", f"required: a non-empty text naming the survey; got {title!r}")
     description = tables["survey"].get("description", "")
     if not isinstance(description, str):
         rs.problem("description", f"must be text; got {description!r}")
@@ -846,7 +848,7 @@ def survey_from_dict(data: Mapping[str, Any], *, base_dir: str | Path = ".",
     assert lon is not None and lat is not None and step is not None and elev is not None
     assert share is not None and thr is not None and max_wind is not None and headings
     return Survey(
-        name=str(name).strip(), start_date=start, end_date=end, timezone=str(tzname),
+        name=str(title).strip(), start_date=start, end_date=end, timezone=str(tzname),
         step_minutes=int(step), longitude=float(lon), latitude=float(lat), camera=camera,
         pitches=tuple(pitches), headings=tuple(headings), wind=wind,
         limits=Limits(float(share), float(thr), (float(elev[0]), float(elev[1])), float(max_wind)),

@@ -49,7 +49,7 @@ import dataclasses
 import datetime as _dt
 from collections.abc import Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -253,7 +253,7 @@ def survey_scene(survey: Survey, *, heading: float = 0.0, pitch: float = -90.0,
     from glint.times import format_time
 
     if wind_speed is None:
-        ws, wd = survey.wind.at(np.asarray([np.datetime64(t, "ns")]))
+        ws, wd = survey.wind.at(np.asarray([t], dtype="datetime64[ns]"))
         wind_speed, wind_direction = float(ws[0]), (None if np.isnan(wd[0]) else float(wd[0]))
     surface: dict[str, Any] = {"wind_speed": float(wind_speed), "slope_model": survey.slope_model}
     if wind_direction is not None and np.isfinite(wind_direction):
@@ -312,7 +312,7 @@ def photo_glint_shares(sun_zenith: ArrayLike, sun_azimuth: ArrayLike, geometry: 
             np.ascontiguousarray(np.broadcast_to(va, (n, per))),
             refractive_index=params.refractive_index, sigma2_crosswind=params.sigma2_crosswind,
             sigma2_upwind=params.sigma2_upwind, wind_direction=params.wind_direction,
-            sun_solid_angle=params.sun_solid_angle, distribution=params.distribution,
+            sun_solid_angle=params.sun_solid_angle, distribution=cast(Any, params.distribution),
             gram_charlier=params.gram_charlier, shadowing=params.shadowing,
         )["glint_reflectance"].reshape(n, nh, npch, npts)
         out[a:b] = np.mean(res > threshold, axis=-1)
@@ -412,7 +412,7 @@ def find_windows(scan: SurveyScan) -> list[Window]:
     """
     s = scan.survey
     acc = scan.acceptable.reshape(scan.times.size, -1)
-    any_ok = acc.any(axis=1)
+    any_ok: NDArray[np.bool_] = np.asarray(acc.any(axis=1), dtype=bool)
     npch = scan.pitches.size
     rev = _reverse_index(scan.headings)
     line = scan.line_shares.reshape(scan.times.size, -1)
@@ -460,5 +460,5 @@ def find_windows(scan: SurveyScan) -> list[Window]:
 
 def wind_of(series: WindSeries, time: Any) -> tuple[float, float | None]:
     """Speed and direction (None when unknown) of a wind series at one time."""
-    ws, wd = series.at(np.asarray([np.datetime64(time, "ns")]))
+    ws, wd = series.at(np.asarray([time], dtype="datetime64[ns]"))
     return float(ws[0]), (None if np.isnan(wd[0]) else float(wd[0]))
