@@ -83,13 +83,17 @@ def cli(verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.calendar import calendar_command
     from glint.cli.camera_view import camera_view_command
+    from glint.cli.plan import plan_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
 
     cli.add_command(map_command)
     cli.add_command(camera_view_command)
     cli.add_command(sun_command)
+    cli.add_command(plan_command)
+    cli.add_command(calendar_command)
 
 
 _register()
