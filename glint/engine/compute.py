@@ -53,6 +53,7 @@ __all__ = [
     "GeometryPlan",
     "KernelParameters",
     "kernel_parameters",
+    "surface_kernel_parameters",
     "plan_geometry",
     "direction_error",
     "compute_window",
@@ -112,10 +113,12 @@ class GeometryPlan:
 
 def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
     """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
-    return _kernel_parameters(scene.surface, scene.water, time)
+    return surface_kernel_parameters(scene.surface, scene.water, time)
 
 
-def _kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+def surface_kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+    """Kernel inputs from a surface and water description alone (no grid or
+    sensor), for workflows that evaluate the kernel at their own points."""
     # Calm water: the variances are floored as in surface.slope_pdf, so a
     # zero wind gives a very narrow glint instead of a division by zero.
     s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(
@@ -191,7 +194,7 @@ def point_glint(time: Any, longitude: float, latitude: float, view_zenith: float
     """
     t = np.datetime64(time, "ns")
     pos = _solar_position(sun, t, longitude=longitude, latitude=latitude)
-    params = _kernel_parameters(surface, water, t)
+    params = surface_kernel_parameters(surface, water, t)
     ang = {
         "sun_zenith": np.array([pos.zenith], dtype=np.float32).reshape(1),
         "sun_azimuth": np.array([pos.azimuth], dtype=np.float32).reshape(1),
