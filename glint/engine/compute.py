@@ -44,6 +44,7 @@ from glint.physics.surface import (
 )
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
 from glint.sensors import GroundPoints
+from glint.times import format_time
 from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
 
 if TYPE_CHECKING:
@@ -521,7 +522,7 @@ def scene_attributes(scene: Scene, time: np.datetime64, plan: GeometryPlan | Non
     s = scene.surface
     attrs: dict[str, Any] = {
         "scene_name": scene.name,
-        "scene_time": f"{np.datetime_as_string(time, unit='s')}Z",
+        "scene_time": format_time(time),
         "wind_speed": float(s.wind_speed),
         "wind_height": float(s.wind_height),
         "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),
