@@ -706,7 +706,7 @@ def _check_sensor_time(sensor: Sensor, times: tuple, problems: Any) -> None:
 
 
 def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
-                    source: Path | str | None = None) -> Scene:
+                    source: Path | str | None = None, grid: Grid | None = None) -> Scene:
     """Build and validate a :class:`Scene` from a nested mapping.
 
     Parameters
@@ -720,6 +720,9 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         file's directory).
     source : path, optional
         The file the scene came from; named in errors and kept on the scene.
+    grid : Grid, optional
+        A grid supplied by the caller (an image's grid): used instead of a
+        ``[grid]`` section, which may then be omitted.
 
     Returns
     -------
@@ -763,7 +766,7 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         else:
             tables[name] = table
     for name in _REQUIRED_SECTIONS:
-        if name not in data:
+        if name not in data and not (name == "grid" and grid is not None):
             problems.add(name, f"required section [{name}] is missing")
 
     # [scene]
@@ -779,7 +782,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
             problems.add("scene.name", "required key is missing (a short name of the scene)")
 
     # [grid]
-    grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
+    if grid is None:
+        grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
 
     # [sensor]
     sensor = None
@@ -903,7 +907,7 @@ def _apply_overrides(data: dict[str, Any], overrides: Mapping[str, Any],
     return data
 
 
-def load_scene(path: Path | str, **overrides: Any) -> Scene:
+def load_scene(path: Path | str, *, grid: Grid | None = None, **overrides: Any) -> Scene:
     """Read, validate and return the scene described by a TOML file.
 
     Parameters
@@ -918,6 +922,9 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
         ``"section.key"`` (``**{"water.temperature": 15.0}``). ``time``
         replaces ``time``/``times`` (a list sets ``times``). ``None`` values
         are ignored.
+    grid : Grid, optional
+        Use this grid (an image's) instead of the file's ``[grid]`` section,
+        which may then be omitted.
 
     Returns
     -------
@@ -948,4 +955,4 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
     except tomllib.TOMLDecodeError as exc:
         raise SceneError([f"invalid TOML: {exc}"], str(path)) from None
     data = _apply_overrides(data, overrides, str(path))
-    return scene_from_dict(data, base_dir=path.resolve().parent, source=path)
+    return scene_from_dict(data, base_dir=path.resolve().parent, source=path, grid=grid)
