@@ -97,7 +97,7 @@ def stretch(bands: NDArray[Any], valid: NDArray[np.bool_],
 
 def side_by_side(panels: Sequence[tuple[str, Any]], path: str | Path, *, title: str,
                  extent: tuple[float, float, float, float], sample: NDArray[np.bool_] | None = None,
-                 footer: str = "") -> Path:
+                 footer: str = "", sample_points: bool = False) -> Path:
     """A PNG of panels side by side.
 
     Parameters
@@ -112,7 +112,8 @@ def side_by_side(panels: Sequence[tuple[str, Any]], path: str | Path, *, title: 
     extent : (left, right, bottom, top)
         Edges in the image's CRS units.
     sample : 2-D bool array, optional
-        Deep-water sample, outlined in cyan on every panel.
+        Deep-water sample, outlined in cyan on every panel (drawn as dots
+        with ``sample_points``, for scattered automatic samples).
     footer : str
         Extra text before the caution.
     """
@@ -136,7 +137,13 @@ def side_by_side(panels: Sequence[tuple[str, Any]], path: str | Path, *, title: 
             fig.colorbar(im, ax=ax, shrink=0.75, label=data.get("label", ""))
         else:
             ax.imshow(np.asarray(data), extent=extent, interpolation="nearest")
-        if sample is not None and np.any(sample):
+        if sample is not None and np.any(sample) and sample_points:
+            r, c = np.nonzero(sample)
+            h, w = sample.shape
+            x = extent[0] + (c + 0.5) / w * (extent[1] - extent[0])
+            y = extent[3] - (r + 0.5) / h * (extent[3] - extent[2])
+            ax.scatter(x, y, s=0.6, c="cyan", marker=".", linewidths=0)
+        elif sample is not None and np.any(sample):
             ax.contour(np.asarray(sample, dtype=float), levels=[0.5], colors="cyan",
                        linewidths=1.2, extent=extent, origin="upper")
         ax.set_title(name, fontsize=10)
