@@ -84,10 +84,12 @@ def _register() -> None:
     from glint.cli.camera_view import camera_view_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
+    from glint.cli.mask import mask_command; from glint.cli.correct import correct_command  # noqa: E702
 
     cli.add_command(map_command)
     cli.add_command(camera_view_command)
     cli.add_command(sun_command)
+    cli.add_command(mask_command); cli.add_command(correct_command)  # noqa: E702
 
 
 _register()
