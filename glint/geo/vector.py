@@ -100,7 +100,7 @@ class Polygons:
         on_grid = self.to_crs(grid.crs)
         self._check_overlap(on_grid, grid)
         r0, r1, _ = (rows or slice(0, grid.height)).indices(grid.height)
-        transform = grid.transform * Affine.translation(0, r0)
+        transform = grid.transform @ Affine.translation(0, r0)
         out = rasterize([(g, 1) for g in on_grid.shapes], out_shape=(r1 - r0, grid.width),
                         transform=transform, fill=0, dtype="uint8", all_touched=False)
         return np.asarray(out, dtype=bool)

@@ -171,7 +171,7 @@ def coarse_grid(grid: Grid, resolution: float) -> tuple[Grid, int]:
                          f"the image's square pixel size {xres:g} x {yres:g} (CRS units)")
     f = int(round(factor))
     shape = (math.ceil(grid.height / f), math.ceil(grid.width / f))
-    return Grid(grid.crs, grid.transform * Affine.scale(f), shape), f
+    return Grid(grid.crs, grid.transform @ Affine.scale(f), shape), f
 
 
 class _WindOnGrid:

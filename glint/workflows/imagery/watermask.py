@@ -152,7 +152,7 @@ def _raster_strip(src_info: WaterSource, image: ImageInfo, rows: slice,
             raise InputFileError(f"water mask {str(src_info.path)!r} has no CRS; allowed: a "
                                  "georeferenced raster")
         reproject(source=rasterio.band(src, 1), destination=dest,
-                  dst_transform=g.transform * Affine.translation(0, r0),
+                  dst_transform=g.transform @ Affine.translation(0, r0),
                   dst_crs=RioCRS.from_wkt(g.crs.to_wkt()), dst_nodata=0,
                   resampling=Resampling.nearest)
     return dest != 0
