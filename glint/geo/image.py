@@ -111,22 +111,31 @@ class ImageInfo:
         with rasterio.open(self.path) as src:
             return np.asarray(src.read(idx, window=self.grid.window(rows)))
 
-    def read_mask(self, rows: slice) -> NDArray[np.bool_]:
+    def read_mask(self, rows: slice, bands: NDArray[Any] | None = None) -> NDArray[np.bool_]:
         """True where the image has data in every band (strip of rows).
 
         Uses GDAL's per-dataset mask when the image has one (an internal mask
         band or an alpha band), and the no-data value (NaN for floating-point
-        images) otherwise.
+        images) otherwise; ``bands`` (the strip as read) saves reading it
+        again.
         """
+        import rasterio
+
+        if not self.has_mask_band:
+            data = bands if bands is not None else self.read(rows)
+            return valid_pixels(data, self.nodata)
+        with rasterio.open(self.path) as src:
+            return np.asarray(src.dataset_mask(window=self.grid.window(rows))) > 0
+
+    @property
+    def has_mask_band(self) -> bool:
+        """Whether GDAL gives the image a per-dataset mask or alpha band."""
         import rasterio
         from rasterio.enums import MaskFlags
 
         with rasterio.open(self.path) as src:
-            flags = src.mask_flag_enums
-            if all(MaskFlags.all_valid in f for f in flags):
-                data = np.asarray(src.read(window=self.grid.window(rows)))
-                return valid_pixels(data, self.nodata)
-            return np.asarray(src.dataset_mask(window=self.grid.window(rows))) > 0
+            return any(MaskFlags.per_dataset in f or MaskFlags.alpha in f
+                       for f in src.mask_flag_enums)
 
 
 def valid_pixels(bands: NDArray[Any], nodata: float | None) -> NDArray[np.bool_]:

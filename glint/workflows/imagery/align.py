@@ -42,7 +42,7 @@ from numpy.typing import NDArray
 from glint.engine import compute
 from glint.errors import InputError, InputFileError
 from glint.geo.grid import Grid, interpolate_nodes
-from glint.geo.image import ImageInfo, open_image, TIME_TAG
+from glint.geo.image import TIME_TAG, ImageInfo, open_image, valid_pixels
 from glint.geo.wind_field import WindField, wind_from_components
 from glint.physics.surface import (
     SLOPE_MODEL_WIND_HEIGHT,
@@ -263,10 +263,11 @@ def iter_strips(
         plan = compute.plan_geometry(calc, t)
         params = compute.kernel_parameters(calc, t)
         wind_nodes = _WindOnGrid(wind, calc.grid, t) if wind is not None else None
+    masked = image.has_mask_band
     for r0, r1 in g.blocks(block_rows):
         rows = slice(r0, r1)
         bands = image.read(rows)
-        valid = image.read_mask(rows)
+        valid = image.read_mask(rows) if masked else valid_pixels(bands, image.nodata)
         wet = water.strip(image, rows, bands) & valid
         glint: dict[str, NDArray[Any]] = {}
         if calc is not None:

@@ -380,13 +380,18 @@ def correct_image(
     saturated_in_sample = 0
     auto = None
     if polygons is not None:
-        for s in strips():
-            inside = polygons.rasterize(info.grid, s.rows) & s.water
-            nir = s.bands[nir_band - 1]
+        for r0, r1 in info.grid.blocks(block_rows):
+            rows = slice(r0, r1)
+            inside = polygons.rasterize(info.grid, rows)
+            if not inside.any():
+                continue  # strips outside the polygons are not read
+            bands = info.read(rows)
+            inside &= water.strip(info, rows, bands) & info.read_mask(rows, bands)
+            nir = bands[nir_band - 1]
             sat_px = inside & (nir >= sat)
             saturated_in_sample += int(np.count_nonzero(sat_px))
             use = inside & ~sat_px
-            sums.add(nir[use], s.bands[[b - 1 for b in others]][:, use])
+            sums.add(nir[use], bands[[b - 1 for b in others]][:, use])
         if saturated_in_sample and saturated_in_sample >= sums.n:
             raise InputError(f"NIR band {nir_band} is saturated (>= {sat:g}) in "
                              f"{saturated_in_sample} of {saturated_in_sample + sums.n} "
