@@ -255,7 +255,7 @@ def open_wind_field(path: str | os.PathLike[str], *, eastward: str | None = None
         if u.dims != v.dims:
             raise InputError(f"wind components of {source} have different dimensions "
                              f"{u.dims!r} and {v.dims!r}")
-        tdim = next((d for d in u.dims if np.issubdtype(ds[d].dtype, np.datetime64)), None) \
+        tdim = next((str(d) for d in u.dims if np.issubdtype(ds[d].dtype, np.datetime64)), None) \
             if all(d in ds.variables for d in u.dims) else None
         if tdim is None:
             raise InputError(f"wind components of {source} have no time axis (dimensions "

@@ -149,7 +149,7 @@ def image_scene(image: ImageInfo, scene: Scene | str | os.PathLike[str], *, time
 
 
 def _iso(t: np.datetime64) -> str:
-    return str(np.datetime_as_string(np.datetime64(t, "ns"), unit="ns")) + "Z"
+    return str(np.datetime_as_string(np.asarray(t, dtype="datetime64[ns]"), unit="ns")) + "Z"
 
 
 def coarse_grid(grid: Grid, resolution: float) -> tuple[Grid, int]:
@@ -196,17 +196,17 @@ class _WindOnGrid:
 def _wind_parameters(params: compute.KernelParameters, scene: Scene, wind: _WindOnGrid,
                      rows: slice, width: int) -> compute.KernelParameters:
     speed, direction = wind.strip(rows, width)
-    model = scene.surface.slope_model
+    model: Any = scene.surface.slope_model
     at_model = wind_speed_at_height(speed, wind.field.height,
                                     target_height=SLOPE_MODEL_WIND_HEIGHT[model])
     s2c, s2u = slope_variances(at_model, model=model)
     f32 = np.float32
-    return dataclasses.replace(
-        params,
-        sigma2_crosswind=np.ascontiguousarray(np.maximum(s2c, SLOPE_VARIANCE_FLOOR), dtype=f32),
-        sigma2_upwind=np.ascontiguousarray(np.maximum(s2u, SLOPE_VARIANCE_FLOOR), dtype=f32),
-        wind_direction=np.ascontiguousarray(direction, dtype=f32),
-    )
+    per_pixel: dict[str, Any] = {
+        "sigma2_crosswind": np.ascontiguousarray(np.maximum(s2c, SLOPE_VARIANCE_FLOOR), dtype=f32),
+        "sigma2_upwind": np.ascontiguousarray(np.maximum(s2u, SLOPE_VARIANCE_FLOOR), dtype=f32),
+        "wind_direction": np.ascontiguousarray(direction, dtype=f32),
+    }
+    return dataclasses.replace(params, **per_pixel)
 
 
 def iter_strips(

@@ -125,7 +125,7 @@ def side_by_side(panels: Sequence[tuple[str, Any]], path: str | Path, *, title: 
     n = len(panels)
     fig, axes = plt.subplots(1, n, figsize=(4.6 * n, 4.9), dpi=100, layout="constrained",
                              squeeze=False)
-    fig.get_layout_engine().set(rect=(0.0, 0.05, 1.0, 0.95))
+    fig.get_layout_engine().set(rect=(0.0, 0.05, 1.0, 0.95))  # type: ignore[union-attr,call-arg]
     for ax, (name, data) in zip(axes[0], panels):
         if isinstance(data, dict):
             v = np.asarray(data["values"], dtype=float)
