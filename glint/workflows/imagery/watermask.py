@@ -54,7 +54,7 @@ def ndwi(green: ArrayLike, nir: ArrayLike) -> NDArray[np.float64]:
 
     Examples
     --------
-    >>> float(ndwi(0.06, 0.02))
+    >>> round(float(ndwi(0.06, 0.02)), 12)
     0.5
     """
     g = np.asarray(green, dtype=float)
