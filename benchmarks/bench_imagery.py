@@ -89,7 +89,8 @@ def run_floor(tmp: Path) -> dict:
 
     src_path = tmp / "image.tif"
     t0 = time.perf_counter()
-    with rasterio.Env(GDAL_NUM_THREADS="ALL_CPUS"):
+    # The same bounded GDAL block cache as glint's imagery runs.
+    with rasterio.Env(GDAL_NUM_THREADS="ALL_CPUS", GDAL_CACHEMAX=256):
         with rasterio.open(src_path) as src:
             profile = dict(src.profile, num_threads="ALL_CPUS")
             with rasterio.open(tmp / "copy.tif", "w", **profile) as dst:

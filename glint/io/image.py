@@ -13,7 +13,7 @@ from __future__ import annotations
 import contextlib
 from collections.abc import Mapping, Sequence
 from pathlib import Path
-from typing import Any
+from typing import Any, Callable, TypeVar, cast
 
 import numpy as np
 from numpy.typing import NDArray
@@ -23,7 +23,33 @@ from glint.errors import OutputError
 from glint.geo.grid import Grid
 from glint.geo.image import ImageInfo
 
-__all__ = ["ProfileWriter", "copy_profile", "grid_profile", "BANDS"]
+__all__ = ["ProfileWriter", "copy_profile", "grid_profile", "raster_env", "with_raster_env", "BANDS", "CACHE_MB"]
+
+#: GDAL block cache while an imagery run reads and writes [MB]: whole strips
+#: are compressed and flushed as they come, so memory stays bounded (GDAL's
+#: own default is 5 % of the machine's memory).
+CACHE_MB = 256
+
+
+def with_raster_env(func: F) -> F:
+    """Run ``func`` inside :func:`raster_env`."""
+    import functools
+
+    @functools.wraps(func)
+    def run(*args: Any, **kwargs: Any) -> Any:
+        with raster_env():
+            return func(*args, **kwargs)
+
+    return cast(F, run)
+
+
+def raster_env() -> Any:
+    """A ``rasterio.Env`` for a run: bounded block cache, compression threads."""
+    import rasterio
+
+    return rasterio.Env(GDAL_CACHEMAX=CACHE_MB, GDAL_NUM_THREADS="ALL_CPUS")
+
+F = TypeVar("F", bound=Callable[..., Any])
 
 #: Key of the ``(count, rows, cols)`` array in the strips given to
 #: :meth:`ProfileWriter.write`.

@@ -52,7 +52,7 @@ from glint.errors import InputError
 from glint.geo.image import ImageInfo, dtype_limits, open_image
 from glint.geo.vector import Polygons, read_polygons
 from glint.geo.wind_field import WindField
-from glint.io.image import BANDS, ProfileWriter, grid_profile
+from glint.io.image import BANDS, ProfileWriter, grid_profile, with_raster_env
 from glint.io.outputset import OutputSet
 from glint.io.quicklook import CAUTION
 from glint.io.tables import write_json
@@ -287,6 +287,7 @@ def _saturation(info: ImageInfo, saturation: float | None) -> float:
     return dtype_limits(info.dtype)[1]
 
 
+@with_raster_env
 def correct_image(
     image: str | os.PathLike[str] | ImageInfo,
     outdir: str | os.PathLike[str],

@@ -40,7 +40,7 @@ from glint.engine import compute
 from glint.errors import InputError
 from glint.geo.image import ImageInfo, open_image
 from glint.geo.wind_field import WindField
-from glint.io.image import BANDS, ProfileWriter, copy_profile, grid_profile
+from glint.io.image import BANDS, ProfileWriter, copy_profile, grid_profile, with_raster_env
 from glint.io.outputset import OutputSet
 from glint.io.quicklook import CAUTION
 from glint.io.tables import write_json
@@ -188,6 +188,7 @@ def run_attributes(scene: Scene, image: ImageInfo, water: WaterSource,
     }
 
 
+@with_raster_env
 def mask_image(
     image: str | os.PathLike[str] | ImageInfo,
     scene: Scene | str | os.PathLike[str],
