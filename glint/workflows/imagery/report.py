@@ -62,7 +62,9 @@ class Decimated:
     def add(self, rows: slice, **arrays: NDArray[Any]) -> None:
         first = (-rows.start) % self.step
         for name, a in arrays.items():
-            self.fields.setdefault(name, []).append(np.asarray(a)[..., first::self.step, ::self.step])
+            # a copy: a view would keep the whole strip alive
+            self.fields.setdefault(name, []).append(
+                np.array(np.asarray(a)[..., first::self.step, ::self.step]))
 
     def get(self, name: str) -> NDArray[Any]:
         parts = self.fields[name]
