@@ -81,6 +81,7 @@ def cli(verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.batch import batch_command
     from glint.cli.camera_view import camera_view_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
@@ -88,6 +89,7 @@ def _register() -> None:
     cli.add_command(map_command)
     cli.add_command(camera_view_command)
     cli.add_command(sun_command)
+    cli.add_command(batch_command)
 
 
 _register()
