@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import logging
 from pathlib import Path
 
 import click
@@ -62,6 +63,12 @@ def batch_command(ctx: click.Context, manifest: Path, outdir: Path, workers: int
 
     root = ctx.find_root()
     quiet = quiet or int(root.params.get("quiet") or 0) > 0
+    if logging.getLogger().getEffectiveLevel() > logging.INFO and not dry_run:
+        # The cluster's own start-up and shutdown chatter, unless -v (after
+        # the import, which sets distributed's logging up).
+        import distributed  # noqa: F401
+
+        logging.getLogger("distributed").setLevel(logging.ERROR)
     if workers is not None and scheduler:
         raise click.BadParameter("--workers sets the local cluster's size; with --scheduler "
                                  "the cluster's own workers are used", param_hint="--workers")

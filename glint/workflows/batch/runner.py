@@ -475,7 +475,7 @@ def _run_split(run: _Run, p: PlannedScene, block_rows: int, ahead: int) -> dict[
 def _progress_bar(total: int, show: bool | None) -> Any:
     from tqdm.auto import tqdm
 
-    disable = (not sys.stderr.isatty()) if show is None else not show
+    disable = (not sys.stderr.isatty() or total == 0) if show is None else not show
     return tqdm(total=total, unit="scene", desc="glint batch", disable=disable, dynamic_ncols=True,
                 file=sys.stderr)
 
@@ -612,11 +612,19 @@ def _after_stop(run: _Run | None, to_run: list[PlannedScene], local: bool) -> No
     # stopped); their temporaries are removed here once they are gone.
     for p in to_run:
         if p.name in run.started and p.name not in run.outcomes:
+            began = p.folder.exists()
             with contextlib.suppress(OSError):
                 clean_stale(p.folder)
                 if p.folder.is_dir() and not any(p.folder.iterdir()):
                     p.folder.rmdir()
-            run.outcomes[p.name] = SceneOutcome(p.name, "stopped", p.decision.reason)
+            st = read_state(p.folder) or {}
+            if decide(p.folder, p.inputs).status == "done":  # finished while stopping
+                run.outcomes[p.name] = SceneOutcome(
+                    p.name, "done", p.decision.reason, float(st.get("seconds", float("nan"))), "",
+                    list(st.get("files", [])), list(st.get("summaries", [])))
+            else:
+                run.outcomes[p.name] = SceneOutcome(p.name, "stopped" if began else "not run",
+                                                    p.decision.reason)
 
 
 def _ordered(planned: list[PlannedScene], run: _Run | None) -> list[SceneOutcome]:
