@@ -333,7 +333,8 @@ def _cluster(client: Any, scheduler: str | None, workers: int | None,
         return
     n = workers or _cores()
     cluster = LocalCluster(n_workers=n, threads_per_worker=1, processes=True, host="127.0.0.1",
-                           dashboard_address=None, silence_logs=logging.ERROR)
+                           dashboard_address=None, silence_logs=logging.ERROR,
+                           env=worker_environment(n))
     try:
         c = Client(cluster, set_as_default=False)
         try:
@@ -344,6 +345,13 @@ def _cluster(client: Any, scheduler: str | None, workers: int | None,
     finally:
         with contextlib.suppress(Exception):
             cluster.close()
+
+
+def worker_environment(workers_per_host: int) -> dict[str, str]:
+    """Environment of the local workers: the compiled kernels of each worker
+    use the cores left to it (the workers already run in parallel; more
+    threads than cores make the kernels' threads wait for each other)."""
+    return {"NUMBA_NUM_THREADS": str(max(1, _cores() // max(1, workers_per_host)))}
 
 
 def _cores() -> int:
