@@ -12,7 +12,6 @@ from pathlib import Path
 
 import pytest
 
-pytest.importorskip("distributed")
 
 from glint.workflows.batch import ClusterError, run_batch  # noqa: E402
 

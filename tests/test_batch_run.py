@@ -16,7 +16,7 @@ import pytest
 import rasterio
 from click.testing import CliRunner
 
-distributed = pytest.importorskip("distributed")
+import distributed  # noqa: E402
 
 from glint.cli.main import cli  # noqa: E402
 from glint.io import writers  # noqa: E402
