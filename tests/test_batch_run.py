@@ -261,3 +261,32 @@ time_range = {start = 2026-07-01T10:00:00Z, stop = 2026-07-30T10:00:00Z, step = 
     assert r.exit_code == 0 and "would run" in r.output
     r = runner.invoke(cli, ["batch", str(bad), "--workers", "2", "--scheduler", "tcp://127.0.0.1:1"])
     assert r.exit_code == 2 and "--workers" in r.output
+
+
+
+def test_large_scene_is_split_over_workers_and_written_by_one_process(tmp_path):
+    from glint.workflows.batch.runner import _maps_take_blocks
+
+    if not _maps_take_blocks():
+        pytest.skip("write_maps takes no strips of rows (blocks=) in this version")
+    m = make_batch(tmp_path / "in", rows=1, res=4.0)      # 300 x 300 pixels
+    ref = tmp_path / "ref"
+    write_maps(load_scene(tmp_path / "in" / "base.toml", wind_speed=3.0), ref)
+    out = tmp_path / "out"
+    # Two worker processes; strips of 64 rows, any scene above 10 000 pixels split.
+    cluster = distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                       host="127.0.0.1", dashboard_address=None)
+    try:
+        with distributed.Client(cluster, set_as_default=False) as c:
+            with distributed.get_task_stream(client=c) as stream:
+                result = run_batch(m, out, client=c, progress=False, split_pixels=10_000,
+                                   block_rows=64)
+    finally:
+        cluster.close()
+    assert result.ok, result.failed
+    strips = [t for t in stream.data if "compute_strip" in str(t["key"])]
+    assert len(strips) == 5                                # ceil(300 / 64)
+    assert len({t["worker"] for t in strips}) == 2, "the strips did not reach both workers"
+    assert not [t for t in stream.data if "run_scene_task" in str(t["key"])]
+    assert_same_pixels({k.split("/", 1)[1]: v for k, v in rasters(out).items()}, rasters(ref))
+    assert leftovers(out) == []
