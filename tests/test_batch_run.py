@@ -287,6 +287,6 @@ def test_large_scene_is_split_over_workers_and_written_by_one_process(tmp_path):
     strips = [t for t in stream.data if "compute_strip" in str(t["key"])]
     assert len(strips) == 5                                # ceil(300 / 64)
     assert len({t["worker"] for t in strips}) == 2, "the strips did not reach both workers"
-    assert not [t for t in stream.data if "run_scene_task" in str(t["key"])]
+    assert not [t for t in stream.data if "glint-scene" in str(t["key"])]
     assert_same_pixels({k.split("/", 1)[1]: v for k, v in rasters(out).items()}, rasters(ref))
     assert leftovers(out) == []
