@@ -553,15 +553,12 @@ def run_batch(
         SIGINT or SIGTERM: running scenes were stopped and their temporary
         files removed; finished scenes and the summary are kept.
     """
-    from glint.io.writers import prepare_outdir
     from glint.workflows.batch.summary import write_summary
 
     t_start = time.perf_counter()
     outdir = Path(outdir)
     planned = plan_batch(manifest, outdir, force=force, confirm=confirm)
-    if outdir.exists() and not outdir.is_dir():
-        raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
-    prepare_outdir(outdir)
+    _make_outdir(outdir)
     to_run = [p for p in planned if p.decision.run]
     bar = _progress_bar(len(to_run), progress)
     result = BatchResult(outdir, [])
@@ -591,6 +588,19 @@ def run_batch(
     result.seconds = time.perf_counter() - t_start
     result.summary_files = write_summary(outdir, result.outcomes)
     return result
+
+
+def _make_outdir(outdir: Path) -> None:
+    """Create the output directory (its parent must exist)."""
+    if outdir.exists() and not outdir.is_dir():
+        raise OutputError(f"output directory {str(outdir)!r} is a file, not a directory")
+    try:
+        outdir.mkdir(exist_ok=True)
+    except FileNotFoundError:
+        raise OutputError(f"cannot create output directory {str(outdir)!r}: its parent does "
+                          "not exist") from None
+    except OSError as exc:
+        raise OutputError(f"cannot create output directory {str(outdir)!r}: {exc.strerror}") from None
 
 
 def _execute(run: _Run, to_run: list[PlannedScene], split_pixels: int, block_rows: int) -> None:
