@@ -160,10 +160,8 @@ def test_rerun_skips_unchanged_redoes_changed_and_failed(tmp_path, client):
 def test_full_disk_fails_one_scene_cleanly(tmp_path, client, monkeypatch):
     m = make_batch(tmp_path / "in", rows=3)
     out = tmp_path / "out"
-    try:
-        from glint.io.geotiff import GeoTiffWriter
-    except ImportError:
-        from glint.io.writers import GeoTiffWriter
+    from glint.io.geotiff import GeoTiffWriter
+
     real = GeoTiffWriter.write
 
     def write(self, rows, arrays):
@@ -268,10 +266,6 @@ time_range = {start = 2026-07-01T10:00:00Z, stop = 2026-07-30T10:00:00Z, step = 
 
 
 def test_large_scene_is_split_over_workers_and_written_by_one_process(tmp_path):
-    from glint.workflows.batch.runner import _maps_take_blocks
-
-    if not _maps_take_blocks():
-        pytest.skip("write_maps takes no strips of rows (blocks=) in this version")
     m = make_batch(tmp_path / "in", rows=1, res=4.0)      # 300 x 300 pixels
     ref = tmp_path / "ref"
     write_maps(load_scene(tmp_path / "in" / "base.toml", wind_speed=3.0), ref)

@@ -25,7 +25,7 @@ import sys
 import time
 import traceback
 from collections import OrderedDict
-from collections.abc import Callable, Iterator, Mapping, Sequence
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, Literal
@@ -34,12 +34,14 @@ import numpy as np
 from numpy.typing import NDArray
 
 from glint._version import __version__
-from glint.errors import GlintError, OutputError, RunStopped
+from glint.engine import compute
+from glint.errors import GlintError, OutputError
 from glint.io.outputset import clean_stale, stop_on_signals
 from glint.scene import Scene, scene_from_dict
 from glint.times import format_time
 from glint.workflows.batch.manifest import Manifest, ResolvedScene, load_manifest
 from glint.workflows.batch.state import Decision, Inputs, decide, read_state, scene_inputs, write_state
+from glint.workflows.maps import MapResult, Strip, strip_variables, write_maps
 
 __all__ = [
     "ClusterError",
@@ -164,13 +166,9 @@ def _error_text(exc: BaseException) -> str:
 
 
 # ------------------------------------------------------------- the scene task
-def _write_maps(scene: Scene, folder: Path, blocks: Any = None) -> Any:
-    from glint.workflows import maps
-
-    if blocks is None:
-        return maps.write_maps(scene, folder, overwrite=True)
-    extra: dict[str, Any] = {"blocks": blocks}
-    return maps.write_maps(scene, folder, overwrite=True, **extra)
+def _write_maps(scene: Scene, folder: Path, blocks: Iterable[Strip] | None = None) -> MapResult:
+    """Every file of a scene, one output set, replacing an earlier run's."""
+    return write_maps(scene, folder, overwrite=True, blocks=blocks)
 
 
 def _finish(folder: Path, spec: Mapping[str, Any], result_files: Sequence[Path],
@@ -226,15 +224,13 @@ def run_scene_task(spec: Mapping[str, Any]) -> dict[str, Any]:
 _STRIP_CACHE: OrderedDict[str, tuple[Scene, Any, Any]] = OrderedDict()
 
 
-def _strip_context(key: str, file: str, data: Mapping[str, Any], time_iso: str) -> tuple[Scene, Any, Any]:
+def _strip_context(key: str, file: str, data: Mapping[str, Any],
+                   t: np.datetime64) -> tuple[Scene, Any, Any]:
     """Scene, tie-point plan and kernel parameters of one scene time, built
-    once per worker process."""
-    from glint.engine import compute
-
+    once per worker process (the plan is the one write_maps would make)."""
     hit = _STRIP_CACHE.get(key)
     if hit is None:
         scene = scene_from_dict(data, base_dir=Path(file).parent, source=Path(file))
-        t = np.datetime64(time_iso.rstrip("Z"), "ns")
         hit = (scene, compute.plan_geometry(scene, t), compute.kernel_parameters(scene, t))
         _STRIP_CACHE[key] = hit
         while len(_STRIP_CACHE) > 4:
@@ -242,28 +238,11 @@ def _strip_context(key: str, file: str, data: Mapping[str, Any], time_iso: str) 
     return hit
 
 
-def compute_strip(key: str, file: str, data: Mapping[str, Any], time_iso: str, row_start: int,
+def compute_strip(key: str, file: str, data: Mapping[str, Any], t: np.datetime64, row_start: int,
                   row_stop: int, variables: Sequence[str]) -> dict[str, NDArray[Any]]:
-    """One strip of rows of a large scene (a worker task)."""
-    from glint.engine import compute
-
-    scene, plan, params = _strip_context(key, file, data, time_iso)
+    """One strip of rows of one time of a large scene (a worker task)."""
+    scene, plan, params = _strip_context(key, file, data, t)
     return compute.compute_window(scene, plan, params, slice(row_start, row_stop), None, variables)
-
-
-def _strip_variables(scene: Scene) -> list[str]:
-    """What write_maps needs from each strip: the scene's variables and those
-    of the quicklook and the summary."""
-    return list(dict.fromkeys(list(scene.outputs.variables)
-                              + ["glint_reflectance", "view_zenith", "glint_class"]))
-
-
-def _maps_take_blocks() -> bool:
-    import inspect
-
-    from glint.workflows import maps
-
-    return "blocks" in inspect.signature(maps.write_maps).parameters
 
 
 # ------------------------------------------------------------------ planning
@@ -431,30 +410,28 @@ class _Run:
         self.record(p, res)
 
 
-def _strips(run: _Run, p: PlannedScene, t: np.datetime64, block_rows: int,
-            ahead: int) -> Iterator[tuple[slice, dict[str, NDArray[Any]]]]:
-    """The strips of one large scene time, computed on the workers, in row
-    order, at most ``ahead`` in flight; finished scene tasks are recorded
-    between strips."""
+def _strips(run: _Run, p: PlannedScene, block_rows: int, ahead: int) -> Iterator[Strip]:
+    """The strips of every time of a large scene, computed on the workers and
+    yielded in order (time by time, rows from 0), at most ``ahead`` in
+    flight; finished scene tasks are recorded between strips."""
     scene = p.resolved.scene
-    key = f"{p.inputs.digest}-{format_time(t, 'stamp')}"
-    variables = _strip_variables(scene)
-    data = p.resolved.data
-    blocks = [(int(b[0]), int(b[1])) for b in scene.grid.blocks(block_rows)]
+    variables = strip_variables(scene)
+    file = str(p.resolved.entry.file)
+    rows = [(int(b[0]), int(b[1])) for b in scene.grid.blocks(block_rows)]
+    work = [(t, r0, r1) for t in scene.times for r0, r1 in rows]
     futures: list[Any] = []
-    nxt = 0
     try:
-        for i in range(len(blocks)):
-            while nxt < len(blocks) and nxt < i + ahead:
-                r0, r1 = blocks[nxt]
+        for i, (t, r0, r1) in enumerate(work):
+            while len(futures) < len(work) and len(futures) < i + ahead:
+                tt, a, b = work[len(futures)]
+                key = f"{p.inputs.digest}-{tt}"
                 futures.append(run.client.submit(
-                    compute_strip, key, str(p.resolved.entry.file), data, format_time(t), r0, r1,
+                    compute_strip, key, file, p.resolved.data, tt, a, b,
                     variables, pure=False, priority=10, retries=0))
-                nxt += 1
             arrays = futures[i].result()
             futures[i] = None
             run.harvest(block=False)
-            yield slice(*blocks[i]), arrays
+            yield slice(r0, r1), arrays
     finally:
         left = [f for f in futures if f is not None]
         if left:
@@ -463,19 +440,14 @@ def _strips(run: _Run, p: PlannedScene, t: np.datetime64, block_rows: int,
 
 
 def _run_split(run: _Run, p: PlannedScene, block_rows: int, ahead: int) -> dict[str, Any]:
-    """Write a large scene here from strips computed on the workers."""
+    """Write a large scene here (one output set) from strips computed on the
+    workers."""
     spec = run.spec(p)
     t0 = time.perf_counter()
     try:
         p.folder.mkdir(parents=True, exist_ok=True)
-        files: list[Path] = []
-        summaries: list[Any] = []
-        for t in p.resolved.scene.times:
-            one = dataclasses.replace(p.resolved.scene, times=(t,))
-            result = _write_maps(one, p.folder, blocks=_strips(run, p, t, block_rows, ahead))
-            files.extend(result.files)
-            summaries.extend(result.summaries)
-        return _finish(p.folder, spec, files, summaries, time.perf_counter() - t0)
+        result = _write_maps(p.resolved.scene, p.folder, blocks=_strips(run, p, block_rows, ahead))
+        return _finish(p.folder, spec, result.files, result.summaries, time.perf_counter() - t0)
     except Exception as exc:
         return _record_failure(p.folder, spec, _error_text(exc), time.perf_counter() - t0)
 
@@ -605,7 +577,7 @@ def _make_outdir(outdir: Path) -> None:
 
 def _execute(run: _Run, to_run: list[PlannedScene], split_pixels: int, block_rows: int) -> None:
     n_workers = _n_workers(run.client)
-    can_split = n_workers > 1 and _maps_take_blocks()
+    can_split = n_workers > 1
     large = [p for p in to_run if can_split and p.pixels > split_pixels]
     small = [p for p in to_run if p not in large]
     for p in small:
