@@ -96,6 +96,8 @@ def loop_task(paths: list[tuple[str, float, str]]) -> float:
     from glint.workflows.maps import write_maps
 
     scenes = [(load_scene(p, wind_speed=w), out) for p, w, out in paths]
+    for _, out in scenes:
+        Path(out).parent.mkdir(parents=True, exist_ok=True)
     t0 = time.perf_counter()
     for scene, out in scenes:
         write_maps(scene, out, overwrite=True)
