@@ -50,8 +50,8 @@ def parse_step(value: Any, where: str) -> np.timedelta64:
 
     Examples
     --------
-    >>> parse_step("6h", "step")
-    numpy.timedelta64(21600,'s')
+    >>> int(parse_step("6h", "step") / np.timedelta64(1, "s"))
+    21600
     """
     m = re.fullmatch(r"\s*(\d+(?:\.\d+)?)\s*(d|h|min|s)\s*", value) if isinstance(value, str) else None
     if m is None or float(m[1]) <= 0:
