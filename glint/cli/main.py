@@ -83,6 +83,7 @@ def cli(verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.batch import batch_command
     from glint.cli.calendar import calendar_command
     from glint.cli.camera_view import camera_view_command
     from glint.cli.correct import correct_command
@@ -98,6 +99,7 @@ def _register() -> None:
     cli.add_command(calendar_command)
     cli.add_command(mask_command)
     cli.add_command(correct_command)
+    cli.add_command(batch_command)
 
 
 _register()
