@@ -36,6 +36,7 @@ if TYPE_CHECKING:  # what the lazy loader below resolves, for type checkers
     from glint.physics.surface import slope_variances
     from glint.scene import Scene, load_scene, scene_from_dict
     from glint.workflows.camera_view import camera_view, write_camera_view
+    from glint.workflows.batch import load_manifest, plan_batch, run_batch
     from glint.workflows.imagery import align, glint_mask, mask_image, ndwi
     from glint.workflows.imagery.correction import correct, correct_image
     from glint.workflows.maps import write_maps
@@ -79,6 +80,10 @@ _API: dict[str, str] = {
     "load_calendar_site": "glint.workflows.planning.calendar",
     "satellite_calendar": "glint.workflows.planning.calendar",
     "write_calendar": "glint.workflows.planning.calendar",
+    # batch: many scenes or a tile grid on a dask cluster
+    "load_manifest": "glint.workflows.batch",
+    "plan_batch": "glint.workflows.batch",
+    "run_batch": "glint.workflows.batch",
 }
 
 __all__ = ["__version__", *_API]
