@@ -148,7 +148,7 @@ def test_reflectance_matches_physics_functions(tmp_path):
     ref = glint_reflectance(
         ds.sun_zenith.values.astype(float), ds.sun_azimuth.values.astype(float),
         ds.view_zenith.values.astype(float), ds.view_azimuth.values.astype(float),
-        w, wind_direction=260.0, refractive_index=p.refractive_index,
+        w, wind_direction=260.0, refractive_index=p.refractive_index, wind_height=12.5,
     )
     np.testing.assert_allclose(ds.glint_reflectance.values, ref, rtol=2e-4, atol=1e-7)
 
