@@ -91,7 +91,8 @@ def test_breon_henriot_laws():
 
 def test_wu_regimes():
     # Wu (1990): total mss 1e-2 (0.90 ln U + 1.20) at light wind and
-    # 1e-2 (6.0 ln U - 8.4) at strong wind (from memory).
+    # 1e-2 (6.0 ln U - 8.4) at strong wind (from memory); the regime break
+    # near U10 = 7 m/s is stated in the paper's abstract.
     c, u = slope_variances(np.array([2.0, 4.0, 10.0, 15.0]), model="wu")
     total = c + u
     np.testing.assert_allclose(total[:2], 1e-2 * (0.90 * np.log([2.0, 4.0]) + 1.20), rtol=1e-12)

@@ -351,10 +351,11 @@ def wu(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
 
     Notes
     -----
-    Two log-linear regimes (from memory):
+    Two log-linear regimes (coefficients from memory):
     :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
     :math:`10^{-2}(6.0 \\ln U - 8.4)` at strong winds. Wu places the break
-    near 7 m/s; here the larger of the two lines is used, which switches at
+    near 7 m/s (abstract: gravity waves dominate the slopes below
+    U10 = 7 m/s, or u* = 20 cm/s, capillary waves above); here the larger of the two lines is used, which switches at
     their crossing (U = 6.57 m/s) and keeps the total continuous. The total
     is floored at 0.003 and split in the ratio of Cox and Munk's clean
     slopes, crosswind share 1.92 / 5.08.
