@@ -230,7 +230,7 @@ def test_lattice_shares_agree_with_every_pixel():
         full = float(np.mean(camera_view(scene, time=t, variables=["glint_reflectance"])
                              .glint_reflectance.values > 0.02))
         params = compute.kernel_parameters(scene, t)
-        sun = compute.sun_angles(scene, t, s.latitude, s.longitude)
+        sun = compute.sun_angles(scene, t, longitude=s.longitude, latitude=s.latitude)
         geo = pose_geometry(s, headings=[heading], pitches=[pitch])
         share = photo_glint_shares(sun.zenith, sun.azimuth, geo, threshold=0.02, params=params)[0, 0, 0]
         worst = max(worst, abs(share - full))

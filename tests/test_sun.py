@@ -16,10 +16,9 @@ from glint import times
 from glint.physics import spa_time, sun
 from glint.errors import InputError, ValidityWarning
 
-pd = pytest.importorskip("pandas")
-pvlib = pytest.importorskip("pvlib")
-from pvlib import solarposition as pv_solarposition  # noqa: E402
-from pvlib import spa as pv_spa  # noqa: E402
+import pandas as pd
+from pvlib import solarposition as pv_solarposition
+from pvlib import spa as pv_spa
 
 BACKENDS = ["numba", "numpy"]
 
@@ -447,7 +446,7 @@ def test_parse_time_accepts_the_ends_of_the_range():
 
 
 def test_xarray_datetime64_array():
-    xr = pytest.importorskip("xarray")
+    import xarray as xr
     t = np.array(["2024-06-01T12:00", "NaT"], dtype="datetime64[ns]")
     out = times.to_utc_datetime64(xr.DataArray(t, dims="time"))
     assert out[0] == t[0] and np.isnat(out[1])

@@ -44,6 +44,7 @@ from glint.physics.surface import (
 )
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
 from glint.sensors import GroundPoints
+from glint.times import format_time
 from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
 
 if TYPE_CHECKING:
@@ -53,6 +54,7 @@ __all__ = [
     "GeometryPlan",
     "KernelParameters",
     "kernel_parameters",
+    "surface_kernel_parameters",
     "plan_geometry",
     "direction_error",
     "compute_window",
@@ -112,10 +114,12 @@ class GeometryPlan:
 
 def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
     """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
-    return _kernel_parameters(scene.surface, scene.water, time)
+    return surface_kernel_parameters(scene.surface, scene.water, time)
 
 
-def _kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+def surface_kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+    """Kernel inputs from a surface and water description alone (no grid or
+    sensor), for workflows that evaluate the kernel at their own points."""
     # Calm water: the variances are floored as in surface.slope_pdf, so a
     # zero wind gives a very narrow glint instead of a division by zero.
     # Without a wind direction, the model's own isotropic fit in two equal
@@ -194,7 +198,7 @@ def point_glint(time: Any, longitude: float, latitude: float, view_zenith: float
     """
     t = np.datetime64(time, "ns")
     pos = _solar_position(sun, t, longitude=longitude, latitude=latitude)
-    params = _kernel_parameters(surface, water, t)
+    params = surface_kernel_parameters(surface, water, t)
     ang = {
         "sun_zenith": np.array([pos.zenith], dtype=np.float32).reshape(1),
         "sun_azimuth": np.array([pos.azimuth], dtype=np.float32).reshape(1),
@@ -521,7 +525,7 @@ def scene_attributes(scene: Scene, time: np.datetime64, plan: GeometryPlan | Non
     s = scene.surface
     attrs: dict[str, Any] = {
         "scene_name": scene.name,
-        "scene_time": f"{np.datetime_as_string(time, unit='s')}Z",
+        "scene_time": format_time(time),
         "wind_speed": float(s.wind_speed),
         "wind_height": float(s.wind_height),
         "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),

@@ -24,7 +24,7 @@ from numba import njit, prange
 from numpy.typing import ArrayLike, NDArray
 
 from glint.errors import InputError
-from glint.physics import optics, surface
+from glint.physics import surface
 from glint.physics._checks import _check_bool, _positive_scalar
 from glint.validation import as_float_array, broadcast_inputs, check_choice
 

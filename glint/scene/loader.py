@@ -72,7 +72,7 @@ from glint.scene.model import (
     slugify,
 )
 from glint.sensors import Sensor, sensor_from_table
-from glint.times import parse_time
+from glint.times import format_time, parse_time
 from glint.validation import interval_problem
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
@@ -378,7 +378,7 @@ def _read_times(table: Mapping[str, Any], problems: _Problems) -> tuple[np.datet
     if len(out) == len(items):
         seen = [t for t in out if out.count(t) > 1]
         if seen:
-            problems.add(raw, f"lists {np.datetime_as_string(seen[0], unit='s')}Z more than once")
+            problems.add(raw, f"lists {format_time(seen[0])} more than once")
     return tuple(out)
 
 
@@ -493,9 +493,9 @@ def _check_sensor_time(sensor: Sensor, times: Sequence[np.datetime64],
         return
     other = [t for t in times if t != pinned]
     if other:
-        shown = ", ".join(f"{np.datetime_as_string(t, unit='s')}Z" for t in other[:3])
+        shown = ", ".join(format_time(t) for t in other[:3])
         problems.add(f"sensor.{key}",
-                     f"{np.datetime_as_string(pinned, unit='s')}Z differs from the scene time(s) {shown}; "
+                     f"{format_time(pinned)} differs from the scene time(s) {shown}; "
                      f"the sensor images the scene at its own times, so leave out sensor.{key} "
                      "(it then follows the scene time, also under --time) or map that time")
 
