@@ -355,11 +355,11 @@ def test_map_writes_files_and_summary(runner, tmp_path, scene_file):
     assert result.exit_code == 0, result.output
     out = result.stdout
     listed = [Path(line.strip()) for line in out.splitlines() if line.startswith("  ")
-              and line.strip().endswith((".tif", ".nc", ".png"))]
-    assert len(listed) == 4
+              and line.strip().endswith((".tif", ".nc", ".png", ".toml"))]
+    assert len(listed) == 6  # two GeoTIFFs, NetCDF, two PNGs, the run record
     for path in listed:
         assert path.is_file() and path.parent == outdir
-    assert {p.suffix for p in listed} == {".tif", ".nc", ".png"}
+    assert {p.suffix for p in listed} == {".tif", ".nc", ".png", ".toml"}
     assert all(p.name.startswith("cli_test_bay") for p in listed)
     assert "Summary for 2026-06-14 10:30:00 UTC:" in out
     assert re.search(r"sun zenith \d+\.\d+ deg, azimuth \d+\.\d+ deg", out)
@@ -411,7 +411,8 @@ def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
     assert result.exit_code == 0, result.output
     files = sorted(p.name for p in outdir.iterdir())
     # Two times: one GeoTIFF each, named by the UTC time (09:30 and 10:30).
-    assert len(files) == 2 and all(f.endswith(".tif") for f in files)
+    tifs = [f for f in files if f.endswith(".tif")]
+    assert len(tifs) == 2 and len(files) == 4  # and a run record per time
     assert any("20260614T093000" in f for f in files)
     assert result.stdout.count("Summary for") == 2
     with rasterio.open(outdir / files[0]) as src:
@@ -461,4 +462,5 @@ def test_map_stopped_by_signal_leaves_nothing(tmp_path, inlet_scene_file, sig, c
     again = subprocess.run(cmd, cwd=root, capture_output=True, text=True, timeout=600,
                            env={**os.environ, "PYTHONPATH": str(root)})
     assert again.returncode == 0, again.stderr
-    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".tif", ".tif"]
+    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".png", ".tif", ".tif",
+                                                       ".toml", ".xml"]

@@ -88,7 +88,7 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
         time, longitude=longitude, latitude=latitude, view_zenith=view_zenith,
         view_azimuth=view_azimuth,
         surface=Surface(wind_speed=wind_speed, wind_direction=wind_direction, wind_height=10.0,
-                        slope_model=slope_model),  # type: ignore[arg-type]
+                        slope_model=slope_model),
         water=Water(wavelength=wavelength, temperature=water_temperature, salinity=salinity,
                     index_method=index_method),  # type: ignore[arg-type]
         sun=SunOptions(surface_elevation=elevation),

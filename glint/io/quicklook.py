@@ -122,7 +122,9 @@ def class_palette(n_classes: int) -> list[tuple[int, int, int]]:
         x = k / (n_classes - 2) * (len(stops) - 1)
         i = min(int(x), len(stops) - 2)
         f = x - i
-        out.append(tuple(int(round(a + (b - a) * f)) for a, b in zip(stops[i], stops[i + 1])))  # type: ignore[misc]
+        (r0, g0, b0), (r1, g1, b1) = stops[i], stops[i + 1]
+        out.append((round(r0 + (r1 - r0) * f), round(g0 + (g1 - g0) * f),
+                    round(b0 + (b1 - b0) * f)))
     return out
 
 
@@ -236,7 +238,9 @@ def _map_axes(ax: Any, style: QuicklookStyle, scale: float, unit: str) -> None:
     if not style.geographic and style.axis_units not in ("m", "km"):
         metres_per_unit = 0.0  # unknown unit (feet, ...): no scale bar
     if metres_per_unit > 0:
-        from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
+        from mpl_toolkits.axes_grid1.anchored_artists import (  # type: ignore[import-untyped]
+            AnchoredSizeBar,
+        )
 
         length_m = _nice_length(abs(x1 - x0) * metres_per_unit / 5.0)
         text = f"{length_m / 1000:g} km" if length_m >= 1000 else f"{length_m:g} m"
@@ -360,7 +364,7 @@ def class_quicklook(classes: ArrayLike, extent: tuple[float, float, float, float
     if n == 0 or len(style.class_thresholds) != n - 1:
         raise InputError(f"class_quicklook needs one more class name than thresholds; got "
                          f"{names!r} and {list(style.class_thresholds)!r}")
-    colours = [tuple(c / 255 for c in rgb) for rgb in class_palette(n)]
+    colours = [(r / 255, g / 255, b / 255) for r, g, b in class_palette(n)]
     cmap = mc.ListedColormap(colours).with_extremes(bad=_UNSEEN)
     norm = mc.BoundaryNorm(np.arange(-0.5, n + 0.5), n)
     c = np.asarray(classes)

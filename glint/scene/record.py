@@ -21,13 +21,17 @@ from typing import Any
 import numpy as np
 
 from glint.scene.model import Scene
+from glint.times import format_time
 
 __all__ = ["scene_record", "scene_toml"]
 
 
 def _utc(t: np.datetime64) -> str:
-    text = np.datetime_as_string(np.datetime64(t, "ms"), unit="ms")
-    return (text[:-4] if text.endswith(".000") else text) + "Z"
+    """The instant as ISO 8601 UTC (glint.times.format_time), keeping
+    milliseconds when the instant has them (a frame's exposure time)."""
+    whole = format_time(t)
+    ms = int(np.asarray(t, dtype="datetime64[ms]").astype(np.int64)) % 1000
+    return whole if ms == 0 else f"{whole[:-1]}.{ms:03d}Z"
 
 
 def _absolute_paths(table: Any, base_dir: Path | None) -> Any:

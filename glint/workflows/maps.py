@@ -14,6 +14,7 @@ import math
 import os
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any
 
 import numpy as np
@@ -320,9 +321,13 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
             p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags)),
             nc_vars))
     left, bottom, right, top = g.bounds
+
+    def quicklook_writer(variable: str) -> Callable[[Path], QuicklookWriter]:
+        style = _quicklook_style(scene, ctx, variable)
+        return lambda p: QuicklookWriter(p, g.shape, (left, right, bottom, top), variable, style)
+
     for v in request.quicklooks:
-        feeds.append(_Feed(out.writer(files.key(f"png:{v}"), lambda p, v=v: QuicklookWriter(
-            p, g.shape, (left, right, bottom, top), v, _quicklook_style(scene, ctx, v))), (v,)))
+        feeds.append(_Feed(out.writer(files.key(f"png:{v}"), quicklook_writer(v)), (v,)))
     record = out.temp(files.key("run"))
     record.write_text(ctx.run["glint_run_record"], encoding="utf-8")
     return feeds
