@@ -81,6 +81,9 @@ def test_bad_file_names_refused(tmp_path, name):
 
 
 def test_missing_parent_refused_unless_parents(tmp_path):
+    # refused by check(), which workflows call before any work
+    with pytest.raises(OutputError, match="parent does not exist"):
+        OutputSet(tmp_path / "x" / "y", {"a": "a.txt"}).check()
     with pytest.raises(OutputError, match="parent does not exist"):
         with OutputSet(tmp_path / "x" / "y", {"a": "a.txt"}):
             pass

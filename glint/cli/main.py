@@ -87,8 +87,11 @@ def cli(ctx: click.Context, verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.batch import batch_command
     from glint.cli.calendar import calendar_command
     from glint.cli.camera_view import camera_view_command
+    from glint.cli.correct import correct_command
+    from glint.cli.mask import mask_command
     from glint.cli.plan import plan_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
@@ -98,6 +101,9 @@ def _register() -> None:
     cli.add_command(sun_command)
     cli.add_command(plan_command)
     cli.add_command(calendar_command)
+    cli.add_command(mask_command)
+    cli.add_command(correct_command)
+    cli.add_command(batch_command)
 
 
 _register()

@@ -345,6 +345,10 @@ class OutputSet:
         directories; call it before the work starts to fail early."""
         if self.directory.exists() and not self.directory.is_dir():
             raise OutputError(f"output directory {str(self.directory)!r} is a file, not a directory")
+        parent = self.directory.resolve().parent
+        if not self.directory.exists() and not self.parents and not parent.is_dir():
+            raise OutputError(f"cannot create output directory {str(self.directory)!r}: its parent "
+                              "does not exist")
         for p in self.paths.values():
             if p.is_dir():
                 raise OutputError(f"output path {str(p)!r} is a directory")

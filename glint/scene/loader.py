@@ -500,9 +500,11 @@ def _check_sensor_time(sensor: Sensor, times: Sequence[np.datetime64],
                      "(it then follows the scene time, also under --time) or map that time")
 
 
-def _section_tables(data: Mapping[str, Any], problems: _Problems) -> dict[str, Mapping[str, Any]]:
+def _section_tables(data: Mapping[str, Any], problems: _Problems, *,
+                    grid_given: bool = False) -> dict[str, Mapping[str, Any]]:
     """The tables of the known sections; unknown, non-table and missing
-    required sections are problems."""
+    required sections are problems ([grid] is optional when the caller
+    supplies the grid)."""
     tables: dict[str, Mapping[str, Any]] = {}
     for name, table in data.items():
         if name not in SECTIONS:
@@ -517,7 +519,7 @@ def _section_tables(data: Mapping[str, Any], problems: _Problems) -> dict[str, M
         else:
             tables[name] = table
     for name in _REQUIRED_SECTIONS:
-        if name not in data:
+        if name not in data and not (name == "grid" and grid_given):
             problems.add(name, f"required section [{name}] is missing")
     return tables
 
@@ -628,7 +630,7 @@ def _build_outputs(tables: Mapping[str, Mapping[str, Any]], problems: _Problems)
 
 
 def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
-                    source: Path | str | None = None) -> Scene:
+                    source: Path | str | None = None, grid: Grid | None = None) -> Scene:
     """Build and validate a :class:`Scene` from a nested mapping.
 
     Parameters
@@ -642,6 +644,9 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         file's directory).
     source : path, optional
         The file the scene came from; named in errors and kept on the scene.
+    grid : Grid, optional
+        A grid supplied by the caller (an image's grid): used instead of a
+        ``[grid]`` section, which may then be omitted.
 
     Returns
     -------
@@ -676,9 +681,10 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
     if not isinstance(data, Mapping):
         raise SceneError([f"expected a table of sections, got {_type_name(data)}"], src)
     problems = _Problems()
-    tables = _section_tables(data, problems)
+    tables = _section_tables(data, problems, grid_given=grid is not None)
     head = _build_scene_section(tables, source, problems)
-    grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
+    if grid is None:
+        grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
     sensor = _build_sensor(tables, base_dir, grid, head.times, problems)
     surface = _build_surface(tables, problems)
     water = _build_water(tables, problems)
@@ -753,7 +759,7 @@ def _apply_overrides(data: dict[str, Any], overrides: Mapping[str, Any],
     return data
 
 
-def load_scene(path: Path | str, **overrides: Any) -> Scene:
+def load_scene(path: Path | str, *, grid: Grid | None = None, **overrides: Any) -> Scene:
     """Read, validate and return the scene described by a TOML file.
 
     Parameters
@@ -768,6 +774,9 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
         ``"section.key"`` (``**{"water.temperature": 15.0}``). ``time``
         replaces ``time``/``times`` (a list sets ``times``). ``None`` values
         are ignored.
+    grid : Grid, optional
+        Use this grid (an image's) instead of the file's ``[grid]`` section,
+        which may then be omitted.
 
     Returns
     -------
@@ -798,4 +807,4 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
     except tomllib.TOMLDecodeError as exc:
         raise SceneError([f"invalid TOML: {exc}"], str(path)) from None
     data = _apply_overrides(data, overrides, str(path))
-    return scene_from_dict(data, base_dir=path.resolve().parent, source=path)
+    return scene_from_dict(data, base_dir=path.resolve().parent, source=path, grid=grid)
