@@ -81,8 +81,9 @@ def test_batch_through_a_scheduler_address(tmp_path, cluster):
     result = run_batch(m, tmp_path / "out", scheduler=cluster, progress=False, connect_timeout=30)
     assert [o.status for o in result.outcomes] == ["done", "done"], result.failed
     for name in ("calm", "windy"):
+        # GeoTIFFs (the class one with its GDAL .aux.xml), NetCDF, run record, batch JSON
         assert sorted(p.suffix for p in (tmp_path / "out" / name).iterdir()) == [
-            ".json", ".nc", ".tif", ".tif"]
+            ".json", ".nc", ".tif", ".tif", ".toml", ".xml"]
     again = run_batch(m, tmp_path / "out", scheduler=cluster, progress=False, connect_timeout=30)
     assert [o.status for o in again.outcomes] == ["skipped", "skipped"]
 

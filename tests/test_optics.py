@@ -143,8 +143,9 @@ def test_fresnel_bad_input(kwargs, match):
 # ------------------------------------------------------ refractive index
 
 # IAPWS R9-97 check values (T [K], rho [kg m-3], lambda [µm], n vs vacuum), as
-# reproduced in third-party implementations of the release (the table was not
-# read in the release itself); all three agree with our formula to 1e-8.
+# reproduced in third-party implementations of the release (the documented
+# examples of the iapws package on PyPI, citing the release); the table was
+# not read in the release itself. All three agree with our formula to 1e-8.
 IAPWS_R9_97_CHECK = [
     (298.15, 997.047435, 0.2265, 1.39277824),
     (298.15, 997.047435, 0.5893, 1.33285819),

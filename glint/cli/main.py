@@ -69,13 +69,17 @@ class _GlintGroup(click.Group):
 @click.group(cls=_GlintGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="glint")
 @click.option("-v", "--verbose", count=True, help="More log output (repeatable).")
-@click.option("-q", "--quiet", count=True, help="Less log output (repeatable).")
-def cli(verbose: int, quiet: int) -> None:
+@click.option("-q", "--quiet", count=True,
+              help="Less output (repeatable): -q a one-line summary per time and no progress "
+                   "bar, -qq also no file list. Warnings and cautions are always shown.")
+@click.pass_context
+def cli(ctx: click.Context, verbose: int, quiet: int) -> None:
     """Predict sun glint on water, pixel by pixel, as GIS rasters.
 
     Glint maps are statistical estimates, not safety clearances. Never look at
     the sun or at its reflection on water.
     """
+    ctx.ensure_object(dict)["quiet"] = int(quiet)
     warnings.showwarning = _show_warning
     level = logging.WARNING - 10 * verbose + 10 * quiet
     logging.basicConfig(level=max(logging.DEBUG, min(level, logging.CRITICAL)),

@@ -122,8 +122,11 @@ def surface_kernel_parameters(surf: Surface, water: Water, time: np.datetime64) 
     sensor), for workflows that evaluate the kernel at their own points."""
     # Calm water: the variances are floored as in surface.slope_pdf, so a
     # zero wind gives a very narrow glint instead of a division by zero.
+    # Without a wind direction, the model's own isotropic fit in two equal
+    # halves (Cox and Munk's 0.003 + 5.12e-3 W for "cox-munk").
     s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(
-        surf.wind_speed, model=surf.slope_model, wind_height=surf.wind_height))
+        surf.wind_speed, model=surf.slope_model, wind_height=surf.wind_height,
+        isotropic=surf.wind_direction is None))
     gc = None
     if surf.distribution == "gram-charlier":
         # Cox and Munk's skewness and kurtosis fits use their 12.5 m wind,

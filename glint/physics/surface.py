@@ -51,6 +51,7 @@ __all__ = [
     "WHITECAP_METHODS",
     "slope_model",
     "cox_munk_clean",
+    "cox_munk_clean_isotropic",
     "cox_munk_slick",
     "breon_henriot",
     "wu",
@@ -96,6 +97,7 @@ FloatArray = NDArray[np.float64]
 #: and run on either (and under numba.njit on scalars).
 Real = float | NDArray[np.floating]
 SlopeLaw = Callable[[FloatArray], tuple[FloatArray, FloatArray]]
+IsotropicLaw = Callable[[FloatArray], FloatArray]
 
 
 # ---------------------------------------------------------------------------
@@ -121,6 +123,11 @@ class SlopeModelInfo:
         data; outside them a ValidityWarning is issued.
     reference : str
         Short citation with DOI.
+    isotropic : callable or None
+        ``isotropic(wind_speed_model_height) -> sigma2_total``: the
+        authors' own fit of the total mean square slope, used when the wind
+        direction is unknown; None when they give none, and the sum of the
+        crosswind and upwind laws is used instead.
     """
 
     name: str
@@ -128,6 +135,7 @@ class SlopeModelInfo:
     wind_height: float
     wind_range: tuple[float, float]
     reference: str
+    isotropic: IsotropicLaw | None = None
 
 
 #: Every slope-variance model by name, in the order they are defined below.
@@ -135,13 +143,16 @@ SLOPE_MODEL_REGISTRY: dict[str, SlopeModelInfo] = {}
 
 
 def slope_model(
-    name: str, *, wind_height: float, wind_range: tuple[float, float], reference: str
+    name: str, *, wind_height: float, wind_range: tuple[float, float], reference: str,
+    isotropic: IsotropicLaw | None = None,
 ) -> Callable[[SlopeLaw], SlopeLaw]:
     """Register a slope-variance law under ``name`` (decorator).
 
     The decorated function takes the wind [m s⁻¹] at ``wind_height`` as a
     float array (already checked to be >= 0 or NaN) and returns the crosswind
-    and upwind mean square slopes. :func:`slope_variances`, ``SLOPE_MODELS``,
+    and upwind mean square slopes; ``isotropic``, when the authors published
+    a separate fit of the total mean square slope, gives that total (used
+    when the wind direction is unknown). :func:`slope_variances`, ``SLOPE_MODELS``,
     ``SLOPE_MODEL_WIND_HEIGHT`` and ``SLOPE_MODEL_WIND_RANGE`` all read the
     registry, so registering is the one step that adds a model.
     """
@@ -152,14 +163,53 @@ def slope_model(
         SLOPE_MODEL_REGISTRY[name] = SlopeModelInfo(
             name=name, law=law, wind_height=float(wind_height),
             wind_range=(float(wind_range[0]), float(wind_range[1])), reference=reference,
+            isotropic=isotropic,
         )
         return law
 
     return register
 
 
+def cox_munk_clean_isotropic(wind_speed_model_height: FloatArray) -> FloatArray:
+    """Cox and Munk's (1954) separate fit of the total mean square slope of a
+    clean sea, for a wind of unknown direction.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed W [m s⁻¹] at 12.5 m.
+
+    Returns
+    -------
+    numpy.ndarray
+        :math:`\\sigma^2 = \\sigma_c^2 + \\sigma_u^2 = 0.003 + 5.12\\times10^{-3} W` [1].
+
+    Notes
+    -----
+    The paper fits the total (isotropic) mean square slope separately from
+    its crosswind and upwind components; the components' laws sum to
+    0.003 + 5.08e-3 W. The variances differ by under 1 %, but glint, which
+    depends on the slope density exp(-tan²β/σ²)/σ², differs by about
+    +0.5 to +0.8 % at the peak and -7 to -11 % where tan²β/σ² = 16 (1-14
+    m/s). Practitioners compare with the published isotropic law, so glint
+    uses it whenever the wind direction is unknown.
+
+    References
+    ----------
+    Cox, C. and Munk, W. (1954). JOSA 44(11), 838-850,
+    doi:10.1364/JOSA.44.000838.
+
+    Examples
+    --------
+    >>> round(float(cox_munk_clean_isotropic(np.array(10.0))), 4)
+    0.0542
+    """
+    return 0.003 + 5.12e-3 * wind_speed_model_height
+
+
 @slope_model("cox-munk", wind_height=12.5, wind_range=(1.0, 14.0),
-             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838")
+             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838",
+             isotropic=cox_munk_clean_isotropic)
 def cox_munk_clean(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
     """Cox and Munk's (1954) mean square slopes of a clean sea surface.
 
@@ -177,9 +227,10 @@ def cox_munk_clean(wind_speed_model_height: FloatArray) -> tuple[FloatArray, Flo
     Notes
     -----
     :math:`\\sigma_c^2 = 0.003 + 1.92\\times10^{-3} W`,
-    :math:`\\sigma_u^2 = 3.16\\times10^{-3} W`. The published total
-    0.003 + 5.12e-3 W is a separate fit: the components sum to
-    0.003 + 5.08e-3 W, within 1 %.
+    :math:`\\sigma_u^2 = 3.16\\times10^{-3} W`, used when the wind direction
+    is known. The published total 0.003 + 5.12e-3 W is a separate fit
+    (:func:`cox_munk_clean_isotropic`), used when it is not; the components
+    sum to 0.003 + 5.08e-3 W.
 
     References
     ----------
@@ -300,10 +351,11 @@ def wu(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
 
     Notes
     -----
-    Two log-linear regimes (from memory):
+    Two log-linear regimes (coefficients from memory):
     :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
     :math:`10^{-2}(6.0 \\ln U - 8.4)` at strong winds. Wu places the break
-    near 7 m/s; here the larger of the two lines is used, which switches at
+    near 7 m/s (abstract: gravity waves dominate the slopes below
+    U10 = 7 m/s, or u* = 20 cm/s, capillary waves above); here the larger of the two lines is used, which switches at
     their crossing (U = 6.57 m/s) and keeps the total continuous. The total
     is floored at 0.003 and split in the ratio of Cox and Munk's clean
     slopes, crosswind share 1.92 / 5.08.
@@ -372,7 +424,8 @@ def _wind_at(w: FloatArray, wind_height: ArrayLike, target_height: float) -> Flo
 
 
 def slope_variances(
-    wind_speed: ArrayLike, *, model: str = "cox-munk", wind_height: ArrayLike = 10.0
+    wind_speed: ArrayLike, *, model: str = "cox-munk", wind_height: ArrayLike = 10.0,
+    isotropic: bool = False,
 ) -> tuple[FloatArray, FloatArray]:
     """Crosswind and upwind mean square slopes of the sea surface.
 
@@ -391,11 +444,18 @@ def slope_variances(
         wind is converted to the model's own height
         (``SLOPE_MODEL_WIND_HEIGHT[model]``: 12.5 m for the Cox-Munk
         models, 10 m for the others) with :func:`wind_speed_at_height`.
+    isotropic : bool
+        The wind direction is unknown: return the model's own fit of the
+        total mean square slope, split equally between the two directions
+        (for Cox-Munk 0.003 + 5.12e-3 W, :func:`cox_munk_clean_isotropic`).
+        Models without a separate total fit split the sum of their two
+        laws equally.
 
     Returns
     -------
     sigma2_crosswind, sigma2_upwind : numpy.ndarray
-        Mean square slopes [1] across and along the wind.
+        Mean square slopes [1] across and along the wind (equal halves of
+        the total when ``isotropic``).
 
     Raises
     ------
@@ -429,14 +489,26 @@ def slope_variances(
     >>> c, u = slope_variances(10.0)
     >>> round(float(c), 4), round(float(u), 4)
     (0.0226, 0.0323)
+
+    Without a wind direction, the published total in two equal halves:
+
+    >>> c, u = slope_variances(10.0, wind_height=12.5, isotropic=True)
+    >>> round(float(c + u), 4), bool(c == u)
+    (0.0542, True)
     """
     check_choice(model, "model", SLOPE_MODELS)
+    if not isinstance(isotropic, (bool, np.bool_)):
+        raise InputError(f"isotropic must be True or False; got {isotropic!r}")
     info = SLOPE_MODEL_REGISTRY[model]
     w = _wind_at(_wind(wind_speed), wind_height, info.wind_height)
     low, high = info.wind_range
     warn_outside(w, f"wind_speed (at the model's {info.wind_height:g} m height)", low, high,
                  f"the {model!r} slope model's data")
     c, u = info.law(w)
+    if isotropic:
+        total = info.isotropic(w) if info.isotropic is not None else c + u
+        half = 0.5 * np.asarray(total, dtype=float)
+        return half, half.copy()
     return np.asarray(c, dtype=float), np.asarray(u, dtype=float)
 
 
@@ -686,8 +758,10 @@ def slope_pdf(
     upwind axis = direction the wind blows to) and
     :math:`p = \\exp(-(\\xi^2+\\eta^2)/2)/(2\\pi\\sigma_c\\sigma_u)`
     (:func:`anisotropic_gaussian_pdf`), times :func:`gram_charlier_series`
-    for ``"gram-charlier"``. Without a direction both axes get the variance
-    :math:`(\\sigma_c^2 + \\sigma_u^2)/2`. Each variance is floored at
+    for ``"gram-charlier"``. Without a direction both axes get half the
+    model's total mean square slope (``slope_variances(..., isotropic=True)``:
+    Cox and Munk's separate isotropic fit 0.003 + 5.12e-3 W for
+    ``"cox-munk"``). Each variance is floored at
     ``SLOPE_VARIANCE_FLOOR`` (1e-6) so that calm water stays finite. The
     Gram-Charlier coefficients are Cox and Munk's clean-surface ones whatever
     ``model`` supplies the variances.
@@ -715,7 +789,8 @@ def slope_pdf(
     w = as_float_array(wind_speed, "wind_speed")
     phi = None if wind_direction is None else as_float_array(wind_direction, "wind_direction")
     broadcast_inputs(zx=zx, zy=zy, wind_speed=w, wind_direction=0.0 if phi is None else phi)
-    s2c, s2u = slope_variances(w, model=model, wind_height=wind_height)
+    s2c, s2u = slope_variances(w, model=model, wind_height=wind_height,
+                               isotropic=wind_direction is None)
     s2c = np.maximum(s2c, SLOPE_VARIANCE_FLOOR)
     s2u = np.maximum(s2u, SLOPE_VARIANCE_FLOOR)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):

@@ -37,6 +37,7 @@ The file layout (every key is described in ``docs/user-guide.md``)::
 
 from __future__ import annotations
 
+import copy
 import datetime as _dt
 import difflib
 import re
@@ -706,6 +707,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         description=head.description,
         tie_point_tolerance=head.tie_point_tolerance,
         source=Path(source) if source is not None else None,
+        tables=copy.deepcopy(dict(data)),
+        base_dir=base_dir.resolve(),
     )
 
 
