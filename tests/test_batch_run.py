@@ -184,8 +184,12 @@ def test_full_disk_fails_one_scene_cleanly(tmp_path, client, monkeypatch):
 
 def _cli(args: list[str]) -> subprocess.Popen:
     env = {**os.environ, "PYTHONPATH": str(ROOT)}
+    # A session of its own, as a batch scheduler gives each job: SIGKILL then
+    # goes to the whole process group (the command and its local workers), as
+    # schedulers kill a job, and no orphaned worker keeps writing.
     return subprocess.Popen([sys.executable, "-m", "glint", "batch", *args], cwd=ROOT, env=env,
-                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True)
+                            stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+                            start_new_session=True)
 
 
 @pytest.mark.parametrize("sig", [signal.SIGTERM, signal.SIGKILL])
@@ -198,7 +202,10 @@ def test_killed_run_resumes_to_identical_outputs(tmp_path, client, sig):
     try:
         for line in p.stderr:
             if line.startswith("done"):
-                p.send_signal(sig)
+                if sig == signal.SIGKILL:
+                    os.killpg(p.pid, sig)
+                else:
+                    p.send_signal(sig)
                 break
         rc = p.wait(timeout=60)
     finally:

@@ -189,7 +189,17 @@ def _owner_gone(name: str, path: Path, now: float) -> bool:
         return True
     except PermissionError:
         return False
-    return False
+    return _is_zombie(pid)
+
+
+def _is_zombie(pid: int) -> bool:
+    """A process that has ended but was not yet reaped (Linux ``/proc``): it
+    writes nothing any more."""
+    try:
+        stat = Path(f"/proc/{pid}/stat").read_text()
+    except OSError:
+        return False
+    return stat.rpartition(")")[2].split()[:1] == ["Z"]
 
 
 def _roll_forward(journal: Path) -> None:
