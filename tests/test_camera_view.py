@@ -13,7 +13,7 @@ from click.testing import CliRunner
 
 from glint.workflows import camera_view as cv
 from glint.cli.main import cli
-from glint.errors import SensorError
+from glint.errors import InputError, SensorError
 from glint.variables import CLASS_NODATA
 
 def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path, camera_scene):
@@ -161,20 +161,57 @@ def test_failure_in_second_time_leaves_no_file_of_the_first(example_scene, tmp_p
     """One output set per run: the files of every time, or none."""
     scene = example_scene("drone_cove_survey.toml",
                           time=["2026-06-14T10:15:00Z", "2026-06-14T11:15:00Z"])
-    real = cv.camera_view
-    calls = []
+    real = cv._view_strip
+    second = scene.times[1]
 
-    def fail_second(*a, **k):
-        calls.append(1)
-        if len(calls) == 2:
+    def fail_second(scene, cam, t, *a, **k):
+        if t == second:
             raise RuntimeError("simulated failure")
-        return real(*a, **k)
+        return real(scene, cam, t, *a, **k)
 
-    monkeypatch.setattr(cv, "camera_view", fail_second)
+    monkeypatch.setattr(cv, "_view_strip", fail_second)
     out = tmp_path / "out"
     with pytest.raises(RuntimeError, match="simulated"):
         cv.write_camera_view(scene, out, step=25)
     assert not out.exists()
-    monkeypatch.setattr(cv, "camera_view", real)
+    monkeypatch.setattr(cv, "_view_strip", real)
     res = cv.write_camera_view(scene, out, step=25)  # no --overwrite needed
     assert len(res.files) == 10 and len(res.summaries) == 2  # 2 PNGs, NetCDF, run record, footprint
+
+
+def test_strip_wise_files_equal_whole_image_view(camera_scene, tmp_path):
+    """The files, written a few rows at a time (strips of 7 output rows, the
+    last one shorter), hold exactly the whole-image camera_view values,
+    pixel for pixel, and the quicklooks and summary do not depend on the
+    strip height. The top of the image shows sky, so strips with and
+    without water are both exercised."""
+    import matplotlib.image as mpimg
+
+    scene = camera_scene(pitch=-15.0)
+    ds = cv.camera_view(scene, step=3)
+    assert ds.glint_class.shape == (40, 54) and 0 < ds.attrs["unseen_pixels"] < 40 * 54
+    res = cv.write_camera_view(scene, tmp_path / "strips", step=3, strip_rows=7)
+    whole = cv.write_camera_view(scene, tmp_path / "whole", step=3, strip_rows=1000)
+    nc = next(p for p in res.files if p.suffix == ".nc")
+    with netCDF4.Dataset(nc) as f:
+        f.set_auto_mask(False)
+        for name in ["lon", "lat", *ds.data_vars]:
+            np.testing.assert_array_equal(f[name][:], ds[name].values, err_msg=name)
+        np.testing.assert_array_equal(f["row"][:], ds.row.values)
+        np.testing.assert_array_equal(f["col"][:], ds.col.values)
+        assert f.unseen_pixels == ds.attrs["unseen_pixels"]
+        assert f.image_size == ds.attrs["image_size"]
+        assert f.geospatial_lat_min == pytest.approx(float(np.nanmin(ds.lat)), abs=0)
+        assert f.geospatial_lon_max == pytest.approx(float(np.nanmax(ds.lon)), abs=0)
+    for suffix in ("_camera_view.png", "_camera_view_class.png"):
+        a, b = (next(p for p in r.files if p.name.endswith(suffix)) for r in (res, whole))
+        np.testing.assert_array_equal(mpimg.imread(a), mpimg.imread(b), err_msg=suffix)
+    assert res.summary == whole.summary
+    assert res.summary.unseen_pixels == ds.attrs["unseen_pixels"]
+
+
+def test_strip_rows_must_be_positive_whole_number(camera_scene, tmp_path):
+    for bad in (0, -3, 2.5, True):
+        with pytest.raises(InputError, match=f"strip_rows must be a whole number >= 1; got {bad!r}"):
+            cv.write_camera_view(camera_scene(), tmp_path / "o", strip_rows=bad)
+    assert not (tmp_path / "o").exists()

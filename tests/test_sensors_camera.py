@@ -149,6 +149,21 @@ def test_image_geometry_step_and_pixels():
         camera_image_geometry(cam, step=0)
 
 
+def test_image_geometry_row_bands_tile_the_image():
+    """Bands of output rows, stacked, are the whole image exactly (the last
+    band is clipped at the image's bottom, as Python slicing)."""
+    cam = _drone(pitch=-20.0)  # the top rows show sky
+    full = camera_image_geometry(cam, step=3)
+    bands = [camera_image_geometry(cam, step=3, rows=slice(r, r + 32)) for r in range(0, 100, 32)]
+    assert [b.lon.shape for b in bands] == [(32, 134)] * 3 + [(4, 134)]
+    for k in range(5):
+        np.testing.assert_array_equal(np.concatenate([b[k] for b in bands]), full[k])
+    assert sum(b.unseen for b in bands) == full.unseen > 0
+    for bad in (slice(0, 10, 2), (0, 10), slice("a", 3)):
+        with pytest.raises(SensorError, match="rows must be a slice"):
+            camera_image_geometry(cam, step=3, rows=bad)
+
+
 def test_fixed_camera_horizon_distance():
     # Common practice: the horizon of an observer at height h lies at about
     # sqrt(2 R h); its dip below the horizontal is acos(R / (R + h)).

@@ -65,31 +65,29 @@ class ClassFlags(NamedTuple):
 
 @dataclass(frozen=True)
 class ImageGrid:
-    """The pixels of a camera view: image rows and columns and the ground
-    point of each.
+    """The pixels of a camera view: the image row and column of each output
+    row and column.
+
+    The ground point of each pixel (``lon``, ``lat``) comes with each strip
+    given to :meth:`NetCDFWriter.write`, so no full-size coordinate array is
+    ever held.
 
     Parameters
     ----------
     rows, cols : 1-D int arrays
         Image row (0 at the top) and column (0 at the left) of each output
         row and column.
-    lon, lat : 2-D arrays, shape ``(len(rows), len(cols))``
-        Longitude and latitude [°] of each pixel's ground point; NaN where
-        the ray does not reach the water.
     """
 
     rows: NDArray[np.integer[Any]]
     cols: NDArray[np.integer[Any]]
-    lon: NDArray[np.floating[Any]]
-    lat: NDArray[np.floating[Any]]
 
     def __post_init__(self) -> None:
-        shape = (np.size(self.rows), np.size(self.cols))
-        for name in ("lon", "lat"):
+        for name in ("rows", "cols"):
             a = np.asarray(getattr(self, name))
-            if a.shape != shape:
-                raise InputError(f"ImageGrid {name} has shape {a.shape!r}; expected {shape!r} "
-                                 "(rows, cols)")
+            if a.ndim != 1 or a.size == 0 or a.dtype.kind not in "iu":
+                raise InputError(f"ImageGrid {name} must be a non-empty 1-D integer array; "
+                                 f"got {getattr(self, name)!r}")
 
     @property
     def shape(self) -> tuple[int, int]:
@@ -107,12 +105,6 @@ class ImageGrid:
     @property
     def size(self) -> int:
         return self.height * self.width
-
-    def lonlat_rows(self, row_start: int,
-                    row_stop: int) -> tuple[NDArray[np.floating[Any]], NDArray[np.floating[Any]]]:
-        """Longitude and latitude of the rows ``row_start:row_stop``."""
-        return (np.asarray(self.lon)[row_start:row_stop],
-                np.asarray(self.lat)[row_start:row_stop])
 
 
 # ------------------------------------------------------------- attributes
@@ -132,6 +124,16 @@ def _nc_attr_value(value: Any) -> Any:
             return arr
         return ", ".join(str(v) for v in np.ravel(arr))
     return str(value)
+
+
+def _nc_attrs(attrs: Mapping[str, Any]) -> dict[str, Any]:
+    """Attributes as netCDF4 stores them (None values dropped)."""
+    out = {}
+    for k, v in attrs.items():
+        v = _nc_attr_value(v)
+        if v is not None:
+            out[str(k)] = v
+    return out
 
 
 def _check_class_flags(class_flags: Any) -> ClassFlags | None:
@@ -339,6 +341,7 @@ class NetCDFWriter:
                                       complevel=self.complevel or None, chunksizes=self._chunks(),
                                       fill_value=fill)
                 v.setncatts({"standard_name": std, "long_name": std, "units": units})
+                self._limit_chunk_cache(v)
             aux += ["lat", "lon"]
         if self.time is not None:
             t = nc.createVariable("time", "f8", ())
@@ -351,6 +354,16 @@ class NetCDFWriter:
     def _chunks(self) -> tuple[int, int]:
         return min(self.chunk_rows, self.grid.height), min(self.chunk_rows, self.grid.width)
 
+    def _limit_chunk_cache(self, var: Any) -> None:
+        """Cache one row of chunks (plus one chunk) of ``var``: enough for
+        strips in row order, however tall, each chunk being compressed and
+        written once its rows are complete. The library's default cache
+        (64 MiB per variable) would keep a whole variable of a 12-megapixel
+        image in memory until the file is closed."""
+        ch, cw = self._chunks()
+        per_row = -(-self.grid.width // cw) + 1
+        var.set_var_chunk_cache(size=per_row * ch * cw * var.dtype.itemsize)
+
     def _define(self) -> None:
         self._define_axes()
         aux = self._define_auxiliary()
@@ -360,6 +373,7 @@ class NetCDFWriter:
             v = self._nc.createVariable(name, dtype, self._dims(), zlib=self.complevel > 0,
                                         complevel=self.complevel or None, chunksizes=self._chunks(),
                                         fill_value=np.array(fill, dtype))
+            self._limit_chunk_cache(v)
             atts = _variable_attrs(name, self.class_flags)
             if not self.image:
                 atts["grid_mapping"] = "crs"
@@ -391,12 +405,7 @@ class NetCDFWriter:
         if self.class_flags is not None:
             attrs["glint_class_thresholds"] = np.asarray(self.class_flags.thresholds, float)
         attrs.update(self.attrs)
-        out = {}
-        for k, v in attrs.items():
-            v = _nc_attr_value(v)
-            if v is not None:
-                out[str(k)] = v
-        return out
+        return _nc_attrs(attrs)
 
     # -- strips
     def write(self, rows: slice | Sequence[int], arrays: StripArrays) -> None:
@@ -408,14 +417,23 @@ class NetCDFWriter:
             Rows of the grid (step 1).
         arrays : mapping or sequence
             One ``(rows, width)`` array per variable, by name or in order.
+            On an :class:`ImageGrid`, a mapping that also holds the strip's
+            ``"lon"`` and ``"lat"`` [°] (NaN where a pixel sees no water).
         """
         if self._nc is None:
             raise OutputError(f"NetCDF writer for {str(self.path)!r} is closed")
         r0, r1 = row_range(rows, self.grid.height)
-        data = strip_arrays(self.variables, arrays, (r1 - r0, self.grid.width))
+        shape = (r1 - r0, self.grid.width)
+        data = strip_arrays(self.variables, arrays, shape)
         for name, a in zip(self.variables, data):
             self._nc.variables[name][r0:r1, :] = a.astype(VARIABLES[name].dtype, copy=False)
-        lon, lat = self.grid.lonlat_rows(r0, r1)
+        if isinstance(self.grid, ImageGrid):
+            if not isinstance(arrays, Mapping):
+                raise InputError("write() on an ImageGrid takes a mapping holding the strip's "
+                                 f"'lon' and 'lat' besides the variables; got {type(arrays)!r}")
+            lon, lat = strip_arrays(("lon", "lat"), arrays, shape)
+        else:
+            lon, lat = self.grid.lonlat_rows(r0, r1)
         if self.lonlat:
             self._nc.variables["lat"][r0:r1, :] = lat
             self._nc.variables["lon"][r0:r1, :] = lon
@@ -429,6 +447,14 @@ class NetCDFWriter:
         rng = self._latlon_range
         rng[:] = [min(rng[0], float(lat[ok].min())), max(rng[1], float(lat[ok].max())),
                   min(rng[2], float(lon[ok].min())), max(rng[3], float(lon[ok].max()))]
+
+    def add_attributes(self, attrs: Mapping[str, Any]) -> None:
+        """Add (or replace) global attributes known only once every strip is
+        written (e.g. counts over the whole field)."""
+        if self._nc is None:
+            raise OutputError(f"NetCDF writer for {str(self.path)!r} is closed")
+        self.attrs.update(attrs)
+        self._nc.setncatts(_nc_attrs(attrs))
 
     def close(self) -> None:
         """Write the geospatial extent attributes and finish the file."""

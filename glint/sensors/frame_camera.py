@@ -331,7 +331,8 @@ class FrameCamera:
                 f"roll={self.roll!r})")
 
 
-def camera_image_geometry(camera: FrameCamera, *, step: int = 1) -> CameraImage:
+def camera_image_geometry(camera: FrameCamera, *, step: int = 1,
+                          rows: slice | None = None) -> CameraImage:
     """View angles and ground positions of every pixel of a camera image.
 
     For glint maps in the camera's own image coordinates: feed
@@ -344,20 +345,26 @@ def camera_image_geometry(camera: FrameCamera, *, step: int = 1) -> CameraImage:
     step : int, optional
         Take every ``step``-th pixel in both directions (pixels
         ``0, step, 2 step, ...``).
+    rows : slice, optional
+        Only these output rows (in units of the ``ceil(rows / step)``
+        output rows, step 1), for computing a large image strip by strip;
+        default all. Bounds are clipped to the image as in Python slicing.
 
     Returns
     -------
     CameraImage
         ``view_zenith``, ``view_azimuth`` [°], ``lon``, ``lat`` [°] and
         ``valid`` (ray reaches the water), each of shape
-        ``(ceil(rows / step), ceil(cols / step))``. Pixels whose ray points
-        at or above the horizon are NaN and not valid; their number is
-        ``result.unseen`` (also logged).
+        ``(ceil(rows / step), ceil(cols / step))`` (fewer rows with
+        ``rows``). Pixels whose ray points at or above the horizon are NaN
+        and not valid; their number is ``result.unseen`` (logged for a
+        whole image).
 
     Raises
     ------
     SensorError
-        If ``step`` is not a positive whole number.
+        If ``step`` is not a positive whole number, or ``rows`` is not a
+        slice with step 1.
 
     Examples
     --------
@@ -366,18 +373,28 @@ def camera_image_geometry(camera: FrameCamera, *, step: int = 1) -> CameraImage:
     >>> geo = camera_image_geometry(cam, step=2)
     >>> geo.view_zenith.shape, 0 < geo.unseen < geo.valid.size
     ((15, 20), True)
+    >>> camera_image_geometry(cam, step=2, rows=slice(4, 8)).lon.shape
+    (4, 20)
     """
     if isinstance(step, bool) or not isinstance(step, (int, np.integer)) or step < 1:
         raise SensorError(f"step must be a positive whole number; got {step!r}")
-    rows = np.arange(0, camera.rows, step, dtype=float)
+    if rows is not None and (not isinstance(rows, slice) or rows.step not in (None, 1)):
+        raise SensorError(f"rows must be a slice of output rows with step 1 (or None); "
+                          f"got {rows!r}")
+    image_rows = np.arange(0, camera.rows, step, dtype=float)
+    if rows is not None:
+        try:
+            image_rows = image_rows[rows]
+        except (TypeError, IndexError) as exc:
+            raise SensorError(f"rows must be a slice of whole numbers; got {rows!r}") from exc
     cols = np.arange(0, camera.cols, step, dtype=float)
-    rr, cc = np.meshgrid(rows, cols, indexing="ij")
+    rr, cc = np.meshgrid(image_rows, cols, indexing="ij")
     lon, lat = camera.image_to_world(cc, rr)
     vz, va, _ = angles_to_position(lon, lat, 0.0, *camera._xyz)
     valid = np.isfinite(lon) & np.isfinite(lat) & (vz < 90.0)
     result = CameraImage(np.where(valid, vz, np.nan), np.where(valid, va, np.nan),
                          np.where(valid, lon, np.nan), np.where(valid, lat, np.nan), valid)
-    if result.unseen:
+    if result.unseen and rows is None:
         log.info("%d of %d image pixels look at or above the horizon and are left empty",
                  result.unseen, valid.size)
     return result

@@ -13,6 +13,7 @@ local regulations and licensed practice.
 
 from __future__ import annotations
 
+import logging
 import math
 import os
 from collections.abc import Sequence
@@ -28,7 +29,7 @@ from glint.io.netcdf import ClassFlags, ImageGrid, NetCDFWriter
 from glint.io.outputset import OutputSet
 from glint.io.quicklook import QuicklookStyle, QuicklookWriter
 from glint.scene import Scene
-from glint.sensors import FrameCamera, camera_image_geometry
+from glint.sensors import CameraImage, FrameCamera, camera_image_geometry
 from glint.times import format_time
 from glint.variables import VARIABLES
 from glint.workflows.job import (
@@ -44,11 +45,17 @@ from glint.workflows.job import (
 )
 
 __all__ = ["CameraViewSummary", "CameraViewResult", "camera_view", "write_camera_view",
-           "PREVIEW_LONG_SIDE", "default_step"]
+           "PREVIEW_LONG_SIDE", "STRIP_ROWS", "default_step"]
+
+log = logging.getLogger(__name__)
 
 #: Long side [pixels] of a camera view computed with the default step: what
 #: a person wants from a preview; ``step=1`` computes every pixel.
 PREVIEW_LONG_SIDE = 1000
+
+#: Output rows :func:`write_camera_view` computes and writes at a time: its
+#: peak memory grows with this times the image width, not with the image.
+STRIP_ROWS = 256
 
 _SUFFIXES = {"png": "_camera_view.png", "class_png": "_camera_view_class.png",
              "netcdf": "_camera_view.nc", "footprint": "_footprint.geojson",
@@ -114,9 +121,35 @@ def _camera(scene: Scene) -> FrameCamera:
     return cam
 
 
+def _image_axes(cam: FrameCamera, step: int) -> tuple[np.ndarray, np.ndarray]:
+    """Image row and column of each output row and column."""
+    return np.arange(0, cam.rows, step), np.arange(0, cam.cols, step)
+
+
+def _view_strip(scene: Scene, cam: FrameCamera, t: np.datetime64, step: int,
+                rows: slice | None, names: Sequence[str],
+                params: compute.KernelParameters) -> tuple[CameraImage, dict[str, np.ndarray]]:
+    """Geometry and glint variables of the output rows ``rows`` (None: all)."""
+    geo = camera_image_geometry(cam, step=step, rows=rows)
+    res = compute.compute_points(scene, t, longitude=geo.lon, latitude=geo.lat,
+                                 view_zenith=geo.view_zenith, view_azimuth=geo.view_azimuth,
+                                 variables=names, params=params)
+    return geo, res
+
+
+def _view_attributes(scene: Scene, cam: FrameCamera, t: np.datetime64,
+                     params: compute.KernelParameters, unseen: int) -> dict[str, Any]:
+    """Attributes of a camera view (the dataset's and the NetCDF's)."""
+    return {**compute.scene_attributes(scene, t, params=params),
+            "unseen_pixels": int(unseen), "image_size": f"{cam.cols} x {cam.rows}"}
+
+
 def camera_view(scene: Scene, *, time: Any = None, step: int = 1,
                 variables: Sequence[str] | None = None) -> Any:
     """Glint variables for every pixel of the scene's camera image.
+
+    The whole image is computed at once; :func:`write_camera_view` writes
+    the same values strip by strip in bounded memory.
 
     Parameters
     ----------
@@ -146,14 +179,10 @@ def camera_view(scene: Scene, *, time: Any = None, step: int = 1,
 
     cam = _camera(scene)
     t = scene.times[0] if time is None else np.datetime64(time, "ns")
-    geo = camera_image_geometry(cam, step=step)
     names = compute.check_variables(variables)
     params = compute.kernel_parameters(scene, t)
-    res = compute.compute_points(scene, t, longitude=geo.lon, latitude=geo.lat,
-                                 view_zenith=geo.view_zenith, view_azimuth=geo.view_azimuth,
-                                 variables=names, params=params)
-    rows = np.arange(0, cam.rows, step)
-    cols = np.arange(0, cam.cols, step)
+    geo, res = _view_strip(scene, cam, t, step, None, names, params)
+    rows, cols = _image_axes(cam, step)
     data = {v: (("row", "col"), res[v], compute.variable_attributes(v, scene)) for v in names}
     ds = xr.Dataset(
         data,
@@ -165,16 +194,14 @@ def camera_view(scene: Scene, *, time: Any = None, step: int = 1,
             "time": t,
         },
     )
-    ds.attrs.update(compute.scene_attributes(scene, t, params=params))
-    ds.attrs["unseen_pixels"] = int(geo.unseen)
-    ds.attrs["image_size"] = f"{cam.cols} x {cam.rows}"
+    ds.attrs.update(_view_attributes(scene, cam, t, params, geo.unseen))
     return ds
 
 
 # ------------------------------------------------------------- the files
-def _netcdf_attrs(ds: Any, scene: Scene, step: int) -> dict[str, Any]:
+def _netcdf_attrs(attrs: dict[str, Any], scene: Scene, step: int) -> dict[str, Any]:
     return {
-        **ds.attrs,
+        **attrs,
         "title": f"Sun glint in the camera image: {scene.name}",
         "summary": "Glint variables for each pixel of a camera image; lon/lat give the point "
                    "where each pixel's ray meets the water.",
@@ -189,20 +216,9 @@ def _class_flags(scene: Scene) -> ClassFlags:
                       tuple(scene.classes.thresholds), scene.classes.variable)
 
 
-def _write_netcdf(out: OutputSet, key: str, ds: Any, scene: Scene, t: np.datetime64,
-                  step: int) -> None:
-    """The camera view as CF NetCDF in image coordinates (the one NetCDF writer)."""
-    names = [str(v) for v in ds.data_vars]
-    pixels = ImageGrid(ds.row.values, ds.col.values, ds.lon.values, ds.lat.values)
-    w = out.writer(key, lambda p: NetCDFWriter(p, pixels, names, attrs=_netcdf_attrs(ds, scene, step),
-                                               time=t, class_flags=_class_flags(scene)))
-    w.write(slice(0, pixels.height), {v: ds[v].values for v in names})
-    w.close()
-
-
-def _write_png(out: OutputSet, key: str, ds: Any, scene: Scene, cam: FrameCamera,
-               summary_sun: tuple[float, float], t: np.datetime64, step: int,
-               variable: str = "glint_reflectance") -> None:
+def _png_writer(out: OutputSet, key: str, shape: tuple[int, int], scene: Scene,
+                cam: FrameCamera, summary_sun: tuple[float, float], t: np.datetime64,
+                step: int, variable: str = "glint_reflectance") -> QuicklookWriter:
     """A quicklook of the camera image on the maps' scale (or its classes)."""
     c = scene.classes
     subtitle = (f"{format_time(t, 'text')}   sun zenith {summary_sun[0]:.1f}°, azimuth "
@@ -223,11 +239,8 @@ def _write_png(out: OutputSet, key: str, ds: Any, scene: Scene, cam: FrameCamera
         class_names=tuple(c.names), class_thresholds=tuple(c.thresholds),
         class_variable_label=f"{c.variable} [{VARIABLES[c.variable].units}]",
     )
-    values = ds[variable].values
-    w = out.writer(key, lambda p: QuicklookWriter(
-        p, values.shape, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), variable, style))
-    w.write(slice(0, values.shape[0]), {variable: values})
-    w.close()
+    return out.writer(key, lambda p: QuicklookWriter(
+        p, shape, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), variable, style))
 
 
 def _write_footprint(out: OutputSet, key: str, cam: FrameCamera, scene: Scene,
@@ -257,37 +270,62 @@ def _ground_sampling_distance(cam: FrameCamera) -> tuple[float, float] | None:
 
 
 def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCamera,
-                    step: int, command: str | None) -> CameraViewSummary:
-    """Compute and write the camera view of one time; returns its summary."""
+                    step: int, strip_rows: int, command: str | None) -> CameraViewSummary:
+    """Compute and write the camera view of one time, ``strip_rows`` output
+    rows at a time (the NetCDF, the PNGs and the tally are fed each strip);
+    returns its summary."""
     t = files.time
-    ds = camera_view(scene, time=t, step=step)
-    tally = GlintTally(scene.classes.names)
-    tally.add(ds.glint_reflectance.values, ds.glint_class.values, np.isfinite(ds.lon.values))
-    tally.require_seen(
-        f"no pixel of the camera image sees the water (pitch={cam.pitch!r} deg, "
-        f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
+    names = compute.check_variables(None)
+    params = compute.kernel_parameters(scene, t)
     sun = compute.sun_angles(scene, t, longitude=cam.lon, latitude=cam.lat)
     sun_zenith, sun_azimuth = float(sun.zenith), float(sun.azimuth)
     run = run_metadata(scene, t, command)
     note = sun_note(sun_zenith)
-    ds.attrs.update(run)
+    # unseen_pixels is counted as the strips go by and set before the file is closed
+    attrs = {**_view_attributes(scene, cam, t, params, 0), **run}
     if note:
-        ds.attrs["sun_condition"] = note
-    _write_png(out, files.key("png"), ds, scene, cam, (sun_zenith, sun_azimuth), t, step)
-    _write_png(out, files.key("class_png"), ds, scene, cam, (sun_zenith, sun_azimuth), t, step,
-               "glint_class")
-    _write_netcdf(out, files.key("netcdf"), ds, scene, t, step)
+        attrs["sun_condition"] = note
+    rows, cols = _image_axes(cam, step)
+    height = rows.size
+    writers: list[QuicklookWriter | NetCDFWriter] = [
+        _png_writer(out, files.key("png"), (height, cols.size), scene, cam,
+                    (sun_zenith, sun_azimuth), t, step),
+        _png_writer(out, files.key("class_png"), (height, cols.size), scene, cam,
+                    (sun_zenith, sun_azimuth), t, step, "glint_class"),
+    ]
+    nc = out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
+        p, ImageGrid(rows, cols), names, attrs=_netcdf_attrs(attrs, scene, step), time=t,
+        class_flags=_class_flags(scene)))
+    writers.append(nc)
+    tally = GlintTally(scene.classes.names)
+    for r0 in range(0, height, strip_rows):
+        band = slice(r0, min(r0 + strip_rows, height))
+        geo, res = _view_strip(scene, cam, t, step, band, names, params)
+        tally.add(res["glint_reflectance"], res["glint_class"], geo.valid)
+        strip = {**res, "lon": geo.lon, "lat": geo.lat}
+        for w in writers:
+            w.write(band, strip)
+        del geo, res, strip
+    tally.require_seen(
+        f"no pixel of the camera image sees the water (pitch={cam.pitch!r} deg, "
+        f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
+    if tally.unseen:
+        log.info("%d of %d image pixels look at or above the horizon and are left empty",
+                 tally.unseen, tally.pixels)
+    nc.add_attributes({"unseen_pixels": tally.unseen})
+    for w in writers:
+        w.close()
     footprint = _write_footprint(out, files.key("footprint"), cam, scene, t, command)
     out.temp(files.key("run")).write_text(run["glint_run_record"], encoding="utf-8")
     fields = TimeSummary.tallied(tally)
-    fields["unseen_pixels"] = int(ds.attrs["unseen_pixels"])
     return CameraViewSummary(time=t, sun_zenith=sun_zenith, sun_azimuth=sun_azimuth,
                              pixel_step=int(step), footprint=footprint,
                              ground_sampling_distance=_ground_sampling_distance(cam), **fields)
 
 
 def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int | None = None,
-                      overwrite: bool = False, command: str | None = None) -> CameraViewResult:
+                      overwrite: bool = False, command: str | None = None,
+                      strip_rows: int = STRIP_ROWS) -> CameraViewResult:
     """Write, per scene time, the camera-view PNG, NetCDF and footprint.
 
     Files (``<stem>`` is the scene's file stem followed by the time, as for
@@ -302,6 +340,11 @@ def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int
     all or nothing. Existing outputs are an error unless ``overwrite``; all
     are checked before anything is computed.
 
+    Each time's view is computed and written ``strip_rows`` output rows at a
+    time (default :data:`STRIP_ROWS`), so the peak memory stays bounded
+    whatever the image size; the files hold the values :func:`camera_view`
+    gives for the whole image.
+
     Raises
     ------
     SensorError
@@ -315,9 +358,13 @@ def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int
     if isinstance(step, bool) or not isinstance(step, (int, np.integer)) or step < 1:
         raise InputError(f"step must be a whole number >= 1 (1: every pixel); got {step!r}")
     step = int(step)
+    if isinstance(strip_rows, bool) or not isinstance(strip_rows, (int, np.integer)) \
+            or strip_rows < 1:
+        raise InputError(f"strip_rows must be a whole number >= 1; got {strip_rows!r}")
     plan = plan_outputs(scene, outdir, _SUFFIXES, overwrite=overwrite)
     summaries: list[CameraViewSummary] = []
     with plan.output_set as out:
         for files in plan.times:
-            summaries.append(_write_one_view(out, files, scene, cam, step, command))
+            summaries.append(_write_one_view(out, files, scene, cam, step, int(strip_rows),
+                                             command))
     return CameraViewResult(files=list(out.files), summaries=summaries)
