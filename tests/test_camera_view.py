@@ -60,8 +60,9 @@ def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path):
     va = scene.sensor.view_angles(pts, scene.times[0])
     ok = np.isfinite(va.view_zenith)
     assert ok.sum() > 50
-    ref = compute.compute_points(scene, scene.times[0], lon, lat, va.view_zenith, va.view_azimuth,
-                                 ["glint_reflectance"])["glint_reflectance"]
+    ref = compute.compute_points(scene, scene.times[0], longitude=lon, latitude=lat,
+                                 view_zenith=va.view_zenith, view_azimuth=va.view_azimuth,
+                                 variables=["glint_reflectance"])["glint_reflectance"]
     np.testing.assert_allclose(ds.glint_reflectance.values[ok], ref[ok], rtol=1e-3, atol=1e-6)
 
 

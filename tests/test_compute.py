@@ -275,6 +275,6 @@ def test_per_pixel_times_rounded_to_ms_stay_exact(tmp_path, rng):
     t = base + rng.integers(0, 60_000_000_000, 2000).astype("timedelta64[ns]")
     lat = np.full(t.shape, 37.0)
     lon = np.full(t.shape, -8.0)
-    got = compute.sun_angles(scene, t, lat, lon)
-    ref = solar_position(t, lat, lon, pressure=scene.sun.pressure, temperature=scene.sun.air_temperature)
+    got = compute.sun_angles(scene, t, longitude=lon, latitude=lat)
+    ref = solar_position(t, longitude=lon, latitude=lat, pressure=scene.sun.pressure, temperature=scene.sun.air_temperature)
     assert np.max(compute.direction_error(got.zenith, got.azimuth, ref.zenith, ref.azimuth)) < 5e-6

@@ -65,7 +65,8 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
 
     time = parse_time(time_text, "--time")
     res = point_glint(
-        time, latitude, longitude, view_zenith, view_azimuth,
+        time, longitude=longitude, latitude=latitude, view_zenith=view_zenith,
+        view_azimuth=view_azimuth,
         surface=Surface(wind_speed=wind_speed, wind_direction=wind_direction, wind_height=10.0),
         water=Water(wavelength=wavelength, temperature=20.0, salinity=35.0),
         sun=SunOptions(surface_elevation=elevation),

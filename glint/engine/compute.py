@@ -24,25 +24,32 @@ This module is the one place that walks a grid. For each scene time it
 from __future__ import annotations
 
 import logging
-from collections.abc import Iterator, Sequence
+from collections.abc import Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
 
 import numba
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
-from glint.geo import grid as _grid
 from glint.errors import InputError
+from glint.geo.lattice import NODE_STEPS, interpolate_field, plan_lattice
 from glint.physics.reflect import glint_kernel
-from glint.sensors import GroundPoints
-from glint.physics.sun import earth_sun_distance, solar_position, sun_solid_angle
+from glint.physics.sun import SolarPosition, earth_sun_distance, solar_position, sun_solid_angle
 from glint.physics.surface import (
     SLOPE_MODEL_WIND_HEIGHT,
     SLOPE_VARIANCE_FLOOR,
+    SlopeDistribution,
     gram_charlier_coefficients,
     slope_variances,
     wind_speed_at_height,
 )
+from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
+from glint.sensors import GroundPoints
 from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
+
+if TYPE_CHECKING:
+    import xarray
 
 __all__ = [
     "GeometryPlan",
@@ -64,11 +71,9 @@ __all__ = [
 
 log = logging.getLogger(__name__)
 
-#: Node spacings tried, coarsest first [pixels].
-_NODE_STEPS = (64, 32, 16, 8, 4, 2)
-#: Rows (and columns) of lattice cells whose centres are checked against exact
-#: values when choosing a spacing: every cell of lattices up to this size.
-_CHECK_CELLS = 400
+FloatArray = NDArray[np.float64]
+#: Angle arrays by name (``sun_zenith``, ``sun_azimuth``, ``view_zenith``, ``view_azimuth``).
+Angles = dict[str, NDArray[np.floating]]
 
 _KERNEL_OUTPUTS = ("glint_angle", "glint_reflectance", "glint_radiance", "glint_fraction")
 
@@ -82,8 +87,8 @@ class KernelParameters:
     sigma2_upwind: float
     wind_direction: float
     sun_solid_angle: float
-    distribution: str
-    gram_charlier: dict | None
+    distribution: SlopeDistribution
+    gram_charlier: dict[str, float] | None
     shadowing: bool
 
 
@@ -100,19 +105,19 @@ class GeometryPlan:
 
     time: np.datetime64
     step: int
-    node_rows: np.ndarray | None
-    node_cols: np.ndarray | None
-    nodes: dict
+    node_rows: FloatArray | None
+    node_cols: FloatArray | None
+    nodes: dict[str, FloatArray]
     views_interpolated: bool
     max_error: float
 
 
-def kernel_parameters(scene, time) -> KernelParameters:
+def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
     """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
     return _kernel_parameters(scene.surface, scene.water, time)
 
 
-def _kernel_parameters(surf, water, time) -> KernelParameters:
+def _kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
     model_height = SLOPE_MODEL_WIND_HEIGHT[surf.slope_model]
     wind = float(wind_speed_at_height(surf.wind_speed, surf.wind_height, target_height=model_height))
     # Calm water: the variances are floored as in surface.slope_pdf, so a
@@ -137,7 +142,8 @@ def _kernel_parameters(surf, water, time) -> KernelParameters:
     )
 
 
-def sun_angles(scene, time, lat, lon):
+def sun_angles(scene: Scene, time: np.datetime64 | NDArray[np.datetime64],
+               longitude: ArrayLike, latitude: ArrayLike) -> SolarPosition:
     """Exact sun position (:func:`glint.physics.sun.solar_position`) with the scene's
     sun options (pressure, air temperature, refraction, delta T, height of
     the water surface).
@@ -152,23 +158,28 @@ def sun_angles(scene, time, lat, lon):
         t = np.asarray(time)
         if np.issubdtype(t.dtype, np.datetime64):
             time = t.astype("datetime64[ms]")
-    return _solar_position(scene.sun, time, lat, lon)
+    return _solar_position(scene.sun, time, longitude=longitude, latitude=latitude)
 
 
-def _solar_position(o, time, lat, lon):
-    return solar_position(time, lat, lon, elevation=o.surface_elevation, pressure=o.pressure,
-                          temperature=o.air_temperature, delta_t=o.delta_t, refraction=o.refraction)
+def _solar_position(o: SunOptions, time: Any, *, longitude: ArrayLike,
+                    latitude: ArrayLike) -> SolarPosition:
+    # Coordinates by keyword: the SPA's argument order is not ours to rely on.
+    return solar_position(time, longitude=longitude, latitude=latitude,
+                          elevation=o.surface_elevation, pressure=o.pressure,
+                          temperature=o.air_temperature, delta_t=o.delta_t,
+                          refraction=o.refraction)
 
 
-def point_glint(time, latitude: float, longitude: float, view_zenith: float, view_azimuth: float,
-                *, surface, water, sun) -> dict:
+def point_glint(time: Any, longitude: float, latitude: float, view_zenith: float,
+                view_azimuth: float, *, surface: Surface, water: Water,
+                sun: SunOptions) -> dict[str, float]:
     """Sun position and glint for one place, time and view direction.
 
     Parameters
     ----------
     time : datetime-like
         UTC instant.
-    latitude, longitude : float
+    longitude, latitude : float
         Place on the water [°].
     view_zenith, view_azimuth : float
         Direction from the water to the sensor [°], true north.
@@ -183,7 +194,7 @@ def point_glint(time, latitude: float, longitude: float, view_zenith: float, vie
         ``glint_reflectance``, ``glint_radiance``, ``glint_fraction``.
     """
     t = np.datetime64(time, "ns")
-    pos = _solar_position(sun, t, latitude, longitude)
+    pos = _solar_position(sun, t, longitude=longitude, latitude=latitude)
     params = _kernel_parameters(surface, water, t)
     ang = {
         "sun_zenith": np.array([pos.zenith], dtype=np.float32).reshape(1),
@@ -200,11 +211,13 @@ def point_glint(time, latitude: float, longitude: float, view_zenith: float, vie
     return result
 
 
-def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: bool = True) -> dict:
+def _exact_angles(scene: Scene, time: np.datetime64, rows: ArrayLike, cols: ArrayLike, *,
+                  views: bool = True) -> dict[str, FloatArray]:
     """Sun (and view) angles computed exactly at pixel indices."""
     pts = GroundPoints.from_pixels(scene.grid, rows, cols)
     va = scene.sensor.view_angles(pts, time)
-    sp = sun_angles(scene, time if va.time is None else va.time, pts.lat, pts.lon)
+    sp = sun_angles(scene, time if va.time is None else va.time, longitude=pts.lon,
+                    latitude=pts.lat)
     out = {"sun_zenith": np.asarray(sp.zenith, float), "sun_azimuth": np.asarray(sp.azimuth, float)}
     if views:
         out["view_zenith"] = np.asarray(va.view_zenith, float)
@@ -212,27 +225,23 @@ def _exact_angles(scene, time, rows: np.ndarray, cols: np.ndarray, *, views: boo
     return out
 
 
-def _interp(name: str, values: np.ndarray, node_rows, node_cols, rows, cols, dtype=np.float64) -> np.ndarray:
-    if name.endswith("azimuth"):
-        return _grid.interpolate_azimuth_nodes(values, node_rows, node_cols, rows, cols, dtype=dtype)
-    return _grid.interpolate_nodes(values, node_rows, node_cols, rows, cols, dtype=dtype)
-
-
-def direction_error(zenith_a, azimuth_a, zenith_b, azimuth_b) -> np.ndarray:
+def direction_error(zenith_a: ArrayLike, azimuth_a: ArrayLike, zenith_b: ArrayLike,
+                    azimuth_b: ArrayLike) -> FloatArray:
     """Angle between two directions given as zenith/azimuth pairs [°].
 
     The haversine form, accurate for tiny angles:
     ``hav d = hav(dz) + sin za sin zb hav(da)``. An azimuth error matters only
     in proportion to the sine of the zenith (at the zenith it is no error).
     """
-    za, zb = np.radians(zenith_a), np.radians(zenith_b)
+    za, zb = np.radians(np.asarray(zenith_a, float)), np.radians(np.asarray(zenith_b, float))
     dz = za - zb
     da = np.radians(np.asarray(azimuth_a, float) - np.asarray(azimuth_b, float))
     h = np.sin(dz / 2) ** 2 + np.sin(za) * np.sin(zb) * np.sin(da / 2) ** 2
     return np.degrees(2 * np.arcsin(np.sqrt(np.clip(h, 0.0, 1.0))))
 
 
-def _max_direction_error(approx: dict, exact: dict) -> float:
+def _max_direction_error(approx: Mapping[str, NDArray[np.floating]],
+                         exact: Mapping[str, FloatArray]) -> float:
     err = 0.0
     for who in ("sun", "view"):
         if f"{who}_zenith" not in approx:
@@ -245,65 +254,55 @@ def _max_direction_error(approx: dict, exact: dict) -> float:
     return err
 
 
-def _check_axes(node_axis: np.ndarray, around: int | None) -> np.ndarray:
-    """Fractional indices at which interpolation is checked along one axis.
-
-    Without ``around``: the centres of every cell (of ``_CHECK_CELLS``
-    evenly spread cells on long axes). With ``around`` (a node index): the
-    nodes, edge midpoints and centres of the three cells on either side.
-    """
-    n = len(node_axis)
-    if around is None:
-        return _grid.cell_centres(node_axis, _CHECK_CELLS)
-    lo, hi = max(around - 3, 0), min(around + 3, n - 1)
-    seg = node_axis[lo:hi + 1]
-    mids = 0.5 * (seg[:-1] + seg[1:])
-    return np.sort(np.concatenate([seg, mids, 0.5 * (seg[:-1] + mids), 0.5 * (mids + seg[1:])]))
+def _nearest_overhead(nodes: Mapping[str, FloatArray]) -> list[tuple[int, int]]:
+    """Nodes where the sensor and the sun are most nearly overhead: the
+    direction fields turn fastest there (their azimuths are singular at the
+    nadir and at the subsolar point), so errors concentrate there."""
+    out: list[tuple[int, int]] = []
+    for zen in ("view_zenith", "sun_zenith"):
+        if zen in nodes and np.isfinite(nodes[zen]).any():
+            ir, ic = np.unravel_index(np.nanargmin(nodes[zen]), nodes[zen].shape)
+            out.append((int(ir), int(ic)))
+    return out
 
 
-def plan_geometry(scene, time, *, steps: Sequence[int] = _NODE_STEPS) -> GeometryPlan:
+def plan_geometry(scene: Scene, time: np.datetime64, *,
+                  steps: Sequence[int] = NODE_STEPS) -> GeometryPlan:
     """Choose the node spacing for one scene time (see module docstring).
 
-    For each spacing, coarsest first, interpolated angles are compared with
-    exact ones at
+    The spacing is chosen by :func:`glint.geo.lattice.plan_lattice`, the one
+    tie-point planner (also used for longitude/latitude by
+    :meth:`glint.geo.grid.Grid.lonlat_rows`): for each spacing, coarsest
+    first, interpolated angles are compared with exact ones at
 
     * the centres of the lattice cells (the points farthest from the nodes;
       every cell, or 400 x 400 evenly spread cells on larger lattices), and
     * a dense set of points in the cells around the node where the sensor is
-      most nearly overhead and around the node where the sun is highest: the
-      direction fields turn fastest there (their azimuths are singular at the
-      nadir and at the subsolar point), so errors concentrate there.
+      most nearly overhead and around the node where the sun is highest.
 
-    A spacing is kept when its largest error is at most 0.8 times
-    ``scene.tie_point_tolerance``: the margin covers points between those
-    checked (cell centres understate the largest error of smooth azimuth
-    fields by up to about 10 %).
+    The error is the angle between interpolated and exact directions
+    (:func:`direction_error`); a spacing is kept when its largest error is at
+    most :data:`glint.geo.lattice.PLAN_MARGIN` times
+    ``scene.tie_point_tolerance``. Sun angles are always interpolated; view
+    angles only for ``scene.sensor.smooth`` sensors.
     """
-    g = scene.grid
-    smooth = bool(getattr(scene.sensor, "smooth", False))
+    smooth = scene.sensor.smooth
     tol = float(scene.tie_point_tolerance)
-    for step, node_rows, node_cols in g.lattices(steps):
-        nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
-        nodes = _exact_angles(scene, time, nr, nc, views=smooth)
-        checks = [(_check_axes(node_rows, None), _check_axes(node_cols, None))]
-        for zen in ("view_zenith", "sun_zenith"):
-            if zen in nodes and np.isfinite(nodes[zen]).any():
-                ir, ic = np.unravel_index(np.nanargmin(nodes[zen]), nodes[zen].shape)
-                checks.append((_check_axes(node_rows, int(ir)), _check_axes(node_cols, int(ic))))
-        err = 0.0
-        for rows, cols in checks:
-            rr, cc = np.meshgrid(rows, cols, indexing="ij")
-            exact = _exact_angles(scene, time, rr, cc, views=smooth)
-            approx = {name: _interp(name, vals, node_rows, node_cols, rows, cols) for name, vals in nodes.items()}
-            err = max(err, _max_direction_error(approx, exact))
-        log.debug("tie-point step %d: max interpolation error %.3g deg", step, err)
-        if err <= 0.8 * tol:
-            return GeometryPlan(time, step, node_rows, node_cols, nodes, smooth, err)
-    log.info("no tie-point spacing meets %.3g deg; computing every pixel exactly", tol)
-    return GeometryPlan(time, 0, None, None, {}, False, 0.0)
+
+    def exact(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+        return _exact_angles(scene, time, rows, cols, views=smooth)
+
+    plan = plan_lattice(scene.grid, exact, _max_direction_error, tol, steps=steps,
+                        periodic=("sun_azimuth", "view_azimuth"), focus=_nearest_overhead)
+    if not plan.step:
+        log.info("no tie-point spacing meets %.3g deg; computing every pixel exactly", tol)
+        return GeometryPlan(time, 0, None, None, {}, False, 0.0)
+    log.debug("tie-point step %d: max interpolation error %.3g deg", plan.step, plan.max_error)
+    return GeometryPlan(time, plan.step, plan.node_rows, plan.node_cols, plan.nodes, smooth,
+                        plan.max_error)
 
 
-def classify(values: np.ndarray, thresholds: Sequence[float]) -> np.ndarray:
+def classify(values: ArrayLike, thresholds: Sequence[float]) -> NDArray[np.uint8]:
     """Glint class per pixel: the number of thresholds at or below the value.
 
     Class ``k`` holds ``thresholds[k-1] <= value < thresholds[k]``; NaN gets
@@ -321,7 +320,8 @@ def classify(values: np.ndarray, thresholds: Sequence[float]) -> np.ndarray:
 
 
 @numba.njit(parallel=True, cache=True)
-def _classify_loop(v, thresholds, out):  # pragma: no cover - compiled
+def _classify_loop(v: NDArray[np.floating], thresholds: FloatArray,
+                   out: NDArray[np.uint8]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(v.size):
         x = v[i]
         if not np.isfinite(x):
@@ -334,7 +334,7 @@ def _classify_loop(v, thresholds, out):  # pragma: no cover - compiled
 
 
 def compute_window(
-    scene,
+    scene: Scene,
     plan: GeometryPlan,
     params: KernelParameters,
     row_slice: slice,
@@ -349,12 +349,13 @@ def compute_window(
     col_slice = col_slice or slice(0, g.width)
     rows = np.arange(row_slice.start, row_slice.stop, dtype=float)
     cols = np.arange(col_slice.start, col_slice.stop, dtype=float)
-    ang: dict[str, np.ndarray] = {}
+    ang: Angles = {}
     if not plan.step or not plan.views_interpolated:
         rr, cc = np.meshgrid(rows, cols, indexing="ij")
-    if plan.step:
+    if plan.step and plan.node_rows is not None and plan.node_cols is not None:
         for name, vals in plan.nodes.items():
-            ang[name] = _interp(name, vals, plan.node_rows, plan.node_cols, rows, cols, np.float32)
+            ang[name] = interpolate_field(vals, plan.node_rows, plan.node_cols, rows, cols,
+                                          periodic=name.endswith("azimuth"), dtype=np.float32)
         if not plan.views_interpolated:
             pts = GroundPoints.from_pixels(scene.grid, rr, cc)
             va = scene.sensor.view_angles(pts, plan.time)
@@ -365,17 +366,19 @@ def compute_window(
                 # the sun is evaluated exactly where the pixel is seen.
                 seen = np.isfinite(ang["view_zenith"])
                 if np.any(seen):
-                    sp = sun_angles(scene, np.asarray(va.time)[seen], pts.lat[seen], pts.lon[seen])
+                    sp = sun_angles(scene, np.asarray(va.time)[seen], longitude=pts.lon[seen],
+                                    latitude=pts.lat[seen])
                     ang["sun_zenith"][seen] = sp.zenith
                     ang["sun_azimuth"][seen] = sp.azimuth
     else:
-        ang = _exact_angles(scene, plan.time, rr, cc)
+        ang = dict(_exact_angles(scene, plan.time, rr, cc))
 
     f32 = {k: np.ascontiguousarray(v, dtype=np.float32) for k, v in ang.items()}
     return _kernel_outputs(f32, params, scene.classes, variables)
 
 
-def _kernel_outputs(f32: dict, params: KernelParameters, classes, variables: Sequence[str]) -> dict:
+def _kernel_outputs(f32: Mapping[str, NDArray[np.float32]], params: KernelParameters,
+                    classes: GlintClasses | None, variables: Sequence[str]) -> dict[str, NDArray[Any]]:
     """Run the fused kernel on float32 angle arrays and pick the variables."""
     out = glint_kernel(
         f32["sun_zenith"], f32["sun_azimuth"], f32["view_zenith"], f32["view_azimuth"],
@@ -388,13 +391,13 @@ def _kernel_outputs(f32: dict, params: KernelParameters, classes, variables: Seq
         gram_charlier=params.gram_charlier,
         shadowing=params.shadowing,
     )
-    result: dict[str, np.ndarray] = {}
+    result: dict[str, NDArray[Any]] = {}
     for name in variables:
         if name in f32:
             result[name] = f32[name]
         elif name in out:
             result[name] = out[name]
-        elif name == "glint_class":
+        elif name == "glint_class" and classes is not None:
             result[name] = classify(out[classes.variable], classes.thresholds)
         else:  # pragma: no cover - guarded by check_variables
             raise InputError(f"unknown variable {name!r}")
@@ -411,16 +414,16 @@ def check_variables(variables: Sequence[str] | None) -> tuple[str, ...]:
     return tuple(variables)
 
 
-def _scene_time(scene, time) -> np.datetime64:
+def _scene_time(scene: Scene, time: Any) -> np.datetime64:
     if time is None:
         return scene.times[0]
     return np.datetime64(time, "ns")
 
 
 def iter_blocks(
-    scene,
+    scene: Scene,
     *,
-    time=None,
+    time: Any = None,
     block_rows: int = 512,
     variables: Sequence[str] | None = None,
     plan: GeometryPlan | None = None,
@@ -441,12 +444,12 @@ def iter_blocks(
 
 
 def compute_dataset(
-    scene,
+    scene: Scene,
     *,
-    time=None,
+    time: Any = None,
     variables: Sequence[str] | None = None,
     chunks: int | tuple[int, int] | None = None,
-):
+) -> xarray.Dataset:
     """The scene's glint variables as an :class:`xarray.Dataset`.
 
     Parameters
@@ -475,6 +478,7 @@ def compute_dataset(
     g = scene.grid
     plan = plan_geometry(scene, t)
     params = kernel_parameters(scene, t)
+    data: dict[str, Any]
     if chunks is None:
         data = {v: np.empty(g.shape, dtype=VARIABLES[v].dtype) for v in variables}
         for rs, block in iter_blocks(scene, time=t, variables=variables, plan=plan):
@@ -495,10 +499,10 @@ def compute_dataset(
     return ds
 
 
-def variable_attributes(name: str, scene) -> dict:
+def variable_attributes(name: str, scene: Scene) -> dict[str, Any]:
     """CF attributes of one output variable (classes from the scene)."""
     var = VARIABLES[name]
-    a = {"long_name": var.long_name, "units": var.units}
+    a: dict[str, Any] = {"long_name": var.long_name, "units": var.units}
     if var.standard_name:
         a["standard_name"] = var.standard_name
     if var.comment:
@@ -511,14 +515,14 @@ def variable_attributes(name: str, scene) -> dict:
     return a
 
 
-def scene_attributes(scene, time, plan: GeometryPlan | None = None,
-                     params: KernelParameters | None = None) -> dict:
+def scene_attributes(scene: Scene, time: np.datetime64, plan: GeometryPlan | None = None,
+                     params: KernelParameters | None = None) -> dict[str, Any]:
     """Scene-level metadata recorded with every output."""
     params = params or kernel_parameters(scene, time)
     s = scene.surface
-    attrs = {
+    attrs: dict[str, Any] = {
         "scene_name": scene.name,
-        "scene_time": str(np.datetime_as_string(np.datetime64(time, "s"), unit="s")) + "Z",
+        "scene_time": f"{np.datetime_as_string(time, unit='s')}Z",
         "wind_speed": float(s.wind_speed),
         "wind_height": float(s.wind_height),
         "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),
@@ -534,7 +538,8 @@ def scene_attributes(scene, time, plan: GeometryPlan | None = None,
     return attrs
 
 
-def _lazy_arrays(scene, plan, params, variables, chunks) -> dict:
+def _lazy_arrays(scene: Scene, plan: GeometryPlan, params: KernelParameters,
+                 variables: Sequence[str], chunks: int | tuple[int, int]) -> dict[str, Any]:
     """Dask arrays computing every float variable of a chunk in one kernel call."""
     try:
         import dask.array as da
@@ -548,7 +553,9 @@ def _lazy_arrays(scene, plan, params, variables, chunks) -> dict:
         floats.append(scene.classes.variable)
     template = da.zeros(g.shape, chunks=chunks, dtype=np.float32)
 
-    def _stack(block, block_info=None):
+    def _stack(block: NDArray[np.float32],
+               block_info: list[dict[str, Any]] | None = None) -> NDArray[np.float32]:
+        assert block_info is not None
         (r0, r1), (c0, c1) = block_info[0]["array-location"]
         res = compute_window(scene, plan, params, slice(r0, r1), slice(c0, c1), floats)
         return np.stack([res[v] for v in floats])
@@ -567,12 +574,12 @@ def _lazy_arrays(scene, plan, params, variables, chunks) -> dict:
 
 
 def compute_points(
-    scene,
-    time,
-    lon: np.ndarray,
-    lat: np.ndarray,
-    view_zenith: np.ndarray,
-    view_azimuth: np.ndarray,
+    scene: Scene,
+    time: Any,
+    longitude: ArrayLike,
+    latitude: ArrayLike,
+    view_zenith: ArrayLike,
+    view_azimuth: ArrayLike,
     variables: Sequence[str] | None = None,
     params: KernelParameters | None = None,
 ) -> dict[str, np.ndarray]:
@@ -588,7 +595,7 @@ def compute_points(
         Supplies the surface, water, sun options and class thresholds.
     time : datetime-like
         Scene time (UTC).
-    lon, lat : array_like
+    longitude, latitude : array_like
         Ground points [°]; NaN where nothing is seen.
     view_zenith, view_azimuth : array_like
         Direction from each point to the sensor [°], true north.
@@ -604,8 +611,9 @@ def compute_points(
     """
     variables = check_variables(variables)
     t = np.datetime64(time, "ns")
-    lon, lat, vz, va = np.broadcast_arrays(*(np.asarray(a, float) for a in (lon, lat, view_zenith, view_azimuth)))
-    sp = sun_angles(scene, t, lat, lon)
+    lon, lat, vz, va = np.broadcast_arrays(
+        *(np.asarray(a, float) for a in (longitude, latitude, view_zenith, view_azimuth)))
+    sp = sun_angles(scene, t, longitude=lon, latitude=lat)
     ang = {
         "sun_zenith": np.ascontiguousarray(sp.zenith, dtype=np.float32),
         "sun_azimuth": np.ascontiguousarray(sp.azimuth, dtype=np.float32),
@@ -615,7 +623,7 @@ def compute_points(
     return _kernel_outputs(ang, params or kernel_parameters(scene, t), scene.classes, variables)
 
 
-def scene_center_summary(scene, time) -> dict:
+def scene_center_summary(scene: Scene, time: np.datetime64) -> dict[str, float]:
     """Sun angles at the grid centre at ``time`` (for titles and reports)."""
     g = scene.grid
     rc = np.array([(g.height - 1) / 2.0]), np.array([(g.width - 1) / 2.0])

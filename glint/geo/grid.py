@@ -4,9 +4,13 @@ A :class:`Grid` is the frame every glint map is computed on. It knows its
 coordinate reference system (a :class:`pyproj.CRS`), a north-up affine
 transform (:class:`affine.Affine`) and its ``(rows, cols)`` shape, and from
 those the pixel-centre coordinates, their longitude/latitude, the meridian
-convergence that turns grid azimuths into true azimuths, strips of rows to
-process block by block, and a lattice of tie-point nodes with bilinear
-interpolation between them.
+convergence that turns grid azimuths into true azimuths, and strips of rows
+to process block by block.
+
+Around it: :mod:`glint.geo.geodesy` (transformations to longitude/latitude,
+meridian convergence), :mod:`glint.geo.lattice` (tie-point lattices, their
+interpolation and the one tie-point planner) and :mod:`glint.geo.cf` (CF
+metadata of a grid).
 
 Conventions
 -----------
@@ -24,31 +28,42 @@ from __future__ import annotations
 
 import functools
 import math
-import threading
-from collections.abc import Iterator
+from collections.abc import Iterator, Mapping
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, NamedTuple
 
-import numba
 import numpy as np
 from affine import Affine
-from pyproj import CRS, Proj, Transformer
+from numpy.typing import ArrayLike, NDArray
+from pyproj import CRS, Transformer
 from pyproj.exceptions import CRSError
 
 from glint.errors import GridError, InputFileError
+from glint.geo.cf import grid_mapping_attributes, projection_coordinates
+from glint.geo.geodesy import meridian_convergence, transformer_to_lonlat, utm_crs_for
+from glint.geo.lattice import (
+    NODE_STEPS,
+    LatticePlan,
+    interpolate_azimuth_nodes,
+    interpolate_nodes,
+    node_axes,
+    plan_lattice,
+)
 
 __all__ = [
     "MAX_PIXELS",
     "Block",
     "Grid",
     "parse_crs",
+    "LONLAT_TOLERANCE",
+    # re-exported from glint.geo.geodesy and glint.geo.lattice, where they live
     "utm_crs_for",
     "interpolate_nodes",
     "interpolate_azimuth_nodes",
-    "LONLAT_TOLERANCE",
-    "cell_centres",
 ]
+
+FloatArray = NDArray[np.float64]
 
 #: Largest error [°] allowed when :meth:`Grid.lonlat_rows` interpolates
 #: longitude and latitude from a node lattice (1e-7° is about 1 cm).
@@ -64,8 +79,9 @@ _ACCEPTED_CRS = (
     "rasterio CRS"
 )
 
-# Transformer objects are not thread-safe: keep one per thread and CRS.
-_LOCAL = threading.local()
+#: Node spacings tried for the lon/lat lattice: the coarse half of the
+#: tie-point spacings (finer lattices would cost about as much as pyproj).
+_LONLAT_STEPS = NODE_STEPS[:4]
 
 
 def parse_crs(value: Any) -> CRS:
@@ -146,59 +162,6 @@ def _check_resolution_fits(
             )
 
 
-def utm_crs_for(lon: float, lat: float) -> CRS:
-    """WGS 84 / UTM CRS whose zone contains a point.
-
-    Parameters
-    ----------
-    lon, lat : float
-        Longitude and latitude of the point [°].
-
-    Returns
-    -------
-    pyproj.CRS
-        EPSG:326zz north of the equator (latitude >= 0), EPSG:327zz south.
-
-    Raises
-    ------
-    GridError
-        If the point lies outside UTM's latitude band (80° S to 84° N) or the
-        coordinates are not valid longitude/latitude.
-
-    Notes
-    -----
-    Zone ``zz = floor((lon + 180) / 6) + 1``, with the two exceptions of the
-    UTM system: zone 32V is widened to 3° E-12° E between 56° N and 64° N
-    (south-west Norway), and between 72° N and 84° N zones 31X, 33X, 35X and
-    37X cover 0-9° E, 9-21° E, 21-33° E and 33-42° E (Svalbard).
-
-    References
-    ----------
-    Snyder, J.P. (1987) Map Projections: A Working Manual. U.S. Geological
-    Survey Professional Paper 1395, pp. 57-64, doi:10.3133/pp1395.
-
-    Examples
-    --------
-    >>> utm_crs_for(5.0, 52.0).to_epsg()
-    32631
-    >>> utm_crs_for(5.0, 60.0).to_epsg()   # Norway exception
-    32632
-    """
-    if not (np.isfinite(lon) and -180.0 <= lon <= 180.0):
-        raise GridError(f"longitude must lie in [-180, 180] degrees; got {lon!r}")
-    if not (np.isfinite(lat) and -80.0 <= lat <= 84.0):
-        raise GridError(
-            f"latitude {lat!r} lies outside the UTM band [-80, 84] degrees; "
-            "give a CRS explicitly (for example a polar stereographic one)"
-        )
-    zone = min(int(math.floor((lon + 180.0) / 6.0)) + 1, 60)
-    if 56.0 <= lat < 64.0 and 3.0 <= lon < 12.0:
-        zone = 32
-    elif lat >= 72.0 and 0.0 <= lon < 42.0:
-        zone = 31 if lon < 9.0 else 33 if lon < 21.0 else 35 if lon < 33.0 else 37
-    return CRS.from_epsg((32600 if lat >= 0.0 else 32700) + zone)
-
-
 class Block(NamedTuple):
     """A strip of whole rows, ``row_start <= row < row_stop``.
 
@@ -218,34 +181,6 @@ class Block(NamedTuple):
     def height(self) -> int:
         """Number of rows in the strip."""
         return self.row_stop - self.row_start
-
-
-def _transformer_to_lonlat(crs: CRS) -> Transformer:
-    """A per-thread, per-CRS cached transformer from ``crs`` to WGS 84 lon/lat."""
-    cache = getattr(_LOCAL, "to_lonlat", None)
-    if cache is None:
-        cache = _LOCAL.to_lonlat = {}
-    key = crs.to_wkt()
-    tr = cache.get(key)
-    if tr is None:
-        tr = cache[key] = Transformer.from_crs(crs, "EPSG:4326", always_xy=True)
-    return tr
-
-
-def _transverse_mercator_parameters(crs: CRS) -> tuple[float, float] | None:
-    """(central meridian [°], first eccentricity squared) of a TM CRS, else None."""
-    op = crs.coordinate_operation if crs.is_projected else None
-    if op is None or op.method_name != "Transverse Mercator":
-        return None
-    lon0 = None
-    for p in op.params:
-        if p.name == "Longitude of natural origin" and p.unit_name == "degree":
-            lon0 = float(p.value)
-    ell = crs.ellipsoid
-    if lon0 is None or ell is None or not ell.inverse_flattening:
-        return None
-    f = 1.0 / ell.inverse_flattening
-    return lon0, f * (2.0 - f)
 
 
 def _as_shape(shape: Any) -> tuple[int, int]:
@@ -599,7 +534,7 @@ class Grid:
         return (t.c, t.f + t.e * self.height, t.c + t.a * self.width, t.f)
 
     # ------------------------------------------------------------ coordinates
-    def xy(self, rows: Any, cols: Any) -> tuple[np.ndarray, np.ndarray]:
+    def xy(self, rows: ArrayLike, cols: ArrayLike) -> tuple[FloatArray, FloatArray]:
         """Coordinates of pixel centres.
 
         Parameters
@@ -624,7 +559,7 @@ class Grid:
 
     def window_xy(
         self, row_start: int, row_stop: int, col_start: int = 0, col_stop: int | None = None
-    ) -> tuple[np.ndarray, np.ndarray]:
+    ) -> tuple[FloatArray, FloatArray]:
         """2-D x and y of the pixel centres of a window.
 
         Parameters
@@ -649,7 +584,7 @@ class Grid:
         cols = np.arange(col_start, col_stop, dtype=float)[None, :]
         return self.xy(rows, cols)
 
-    def index(self, x: Any, y: Any) -> tuple[np.ndarray, np.ndarray]:
+    def index(self, x: ArrayLike, y: ArrayLike) -> tuple[FloatArray, FloatArray]:
         """Fractional ``(row, col)`` of CRS coordinates; inverse of :meth:`xy`.
 
         Parameters
@@ -672,7 +607,7 @@ class Grid:
         x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
         return np.asarray((y - t.f) / t.e - 0.5), np.asarray((x - t.c) / t.a - 0.5)
 
-    def lonlat(self, x: Any, y: Any) -> tuple[np.ndarray, np.ndarray]:
+    def lonlat(self, x: ArrayLike, y: ArrayLike) -> tuple[FloatArray, FloatArray]:
         """WGS 84 longitude and latitude [°] of CRS coordinates.
 
         Parameters
@@ -698,17 +633,17 @@ class Grid:
         [3.0, 0.0]
         """
         x, y = np.broadcast_arrays(np.asarray(x, dtype=float), np.asarray(y, dtype=float))
-        lon, lat = _transformer_to_lonlat(self.crs).transform(x, y)
+        lon, lat = transformer_to_lonlat(self.crs).transform(x, y)
         return np.asarray(lon, dtype=float), np.asarray(lat, dtype=float)
 
-    def lonlat_rows(self, row_start: int, row_stop: int) -> tuple[np.ndarray, np.ndarray]:
+    def lonlat_rows(self, row_start: int, row_stop: int) -> tuple[FloatArray, FloatArray]:
         """Longitude and latitude [°] of every pixel centre in a strip of rows.
 
         Interpolated from a node lattice when that stays within
         :data:`LONLAT_TOLERANCE` of the exact transformation (checked at the
-        centres of the lattice cells when the lattice is first built; the
-        coarsest spacing of 64, 32, 16 or 8 pixels that passes with a 0.8
-        margin is used), else transformed exactly with pyproj. Projected
+        points of :func:`glint.geo.lattice.plan_lattice`, the one tie-point
+        planner, when the lattice is first built; spacings of 64, 32, 16 or 8
+        pixels are tried), else transformed exactly with pyproj. Projected
         grids of the usual sizes interpolate; the lattice is built once per
         grid.
 
@@ -719,76 +654,24 @@ class Grid:
         """
         rows = np.arange(row_start, row_stop, dtype=float)
         cols = np.arange(self.width, dtype=float)
-        lattice = _lonlat_lattice(self)
-        if lattice is None:
+        plan = _lonlat_plan(self)
+        if plan is None:
             return self.lonlat(*self.window_xy(row_start, row_stop))
-        node_rows, node_cols, lon_nodes, lat_nodes = lattice
-        lon = interpolate_azimuth_nodes(lon_nodes, node_rows, node_cols, rows, cols)
+        lon = np.asarray(plan.interpolate("longitude", rows, cols), dtype=float)
         lon = np.where(lon >= 180.0, lon - 360.0, lon)
-        lat = interpolate_nodes(lat_nodes, node_rows, node_cols, rows, cols)
-        return lon, lat
+        return lon, np.asarray(plan.interpolate("latitude", rows, cols), dtype=float)
 
-    def meridian_convergence(self, lon: Any, lat: Any) -> np.ndarray:
-        """Meridian convergence gamma [°]: ``true = (grid + gamma) % 360``.
-
-        Parameters
-        ----------
-        lon, lat : array_like
-            Longitude and latitude [°] of the points.
-
-        Returns
-        -------
-        numpy.ndarray
-            Angle [°] from true north clockwise to grid north (the grid's
-            +y direction); 0 for geographic grids.
-
-        Notes
-        -----
-        For transverse Mercator CRSs (UTM included) within 10° of the central
-        meridian, the series in ``dl = lon - lon0``
-
-        .. math::
-
-           \\gamma = \\Delta\\lambda \\sin\\varphi \\left[1 + \\frac{(\\Delta\\lambda\\cos
-           \\varphi)^2}{3}(1 + 3\\eta^2 + 2\\eta^4) + \\frac{(\\Delta\\lambda\\cos
-           \\varphi)^4}{15}(2 - \\tan^2\\varphi)\\right],\\quad
-           \\eta^2 = \\frac{e^2}{1 - e^2}\\cos^2\\varphi
-
-        is used; elsewhere ``pyproj.Proj(crs).get_factors(lon, lat)
-        .meridian_convergence``. Both carry the sign convention above (positive
-        east of the central meridian in the northern hemisphere).
-
-        References
-        ----------
-        Snyder, J.P. (1987) Map Projections: A Working Manual. U.S. Geological
-        Survey Professional Paper 1395, doi:10.3133/pp1395.
+    def meridian_convergence(self, longitude: ArrayLike, latitude: ArrayLike) -> FloatArray:
+        """Meridian convergence gamma [°]: ``true = (grid + gamma) % 360``
+        (:func:`glint.geo.geodesy.meridian_convergence` of the grid's CRS).
 
         Examples
         --------
         >>> g = Grid.from_bounds((600000, 5760000, 610000, 5770000), 10, 32631)
-        >>> round(float(g.meridian_convergence(5.5, 52.0)), 3)
+        >>> round(float(g.meridian_convergence(longitude=5.5, latitude=52.0)), 3)
         1.971
         """
-        lon, lat = np.broadcast_arrays(np.asarray(lon, dtype=float), np.asarray(lat, dtype=float))
-        if self.crs.is_geographic:
-            return np.where(np.isnan(lon) | np.isnan(lat), np.nan, 0.0)
-        tm = _transverse_mercator_parameters(self.crs)
-        if tm is not None:
-            lon0, e2 = tm
-            dl = np.radians((lon - lon0 + 180.0) % 360.0 - 180.0)
-            if np.all(np.abs(dl[np.isfinite(dl)]) <= np.radians(10.0)):
-                phi = np.radians(lat)
-                c, s = np.cos(phi), np.sin(phi)
-                eta2 = e2 / (1.0 - e2) * c * c
-                u = (dl * c) ** 2
-                gamma = dl * s * (
-                    1.0 + u / 3.0 * (1.0 + 3.0 * eta2 + 2.0 * eta2 * eta2)
-                    + u * u / 15.0 * (2.0 - (s / c) ** 2)
-                )
-                return np.degrees(gamma)
-        factors = Proj(self.crs).get_factors(lon, lat, errcheck=False)
-        gamma = np.asarray(factors.meridian_convergence, dtype=float)
-        return np.where(np.isfinite(gamma), gamma, np.nan)
+        return meridian_convergence(self.crs, longitude=longitude, latitude=latitude)
 
     # ---------------------------------------------------------------- blocks
     def blocks(self, rows: int = 512) -> Iterator[Block]:
@@ -839,17 +722,7 @@ class Grid:
         c0, c1, _ = (col_slice or slice(None)).indices(self.width)
         return Window(c0, r0, c1 - c0, r1 - r0)
 
-    def lattices(self, steps) -> Iterator[tuple[int, np.ndarray, np.ndarray]]:
-        """``(step, node_rows, node_cols)`` for each spacing in ``steps`` that
-        gives a lattice of at least 2 x 2 nodes (coarser ones are skipped)."""
-        for step in steps:
-            if step >= max(self.shape):
-                continue
-            node_rows, node_cols = self.nodes(step)
-            if len(node_rows) >= 2 and len(node_cols) >= 2:
-                yield step, node_rows, node_cols
-
-    def nodes(self, step: int) -> tuple[np.ndarray, np.ndarray]:
+    def nodes(self, step: int) -> tuple[FloatArray, FloatArray]:
         """Row and column indices of a tie-point lattice.
 
         Parameters
@@ -869,252 +742,41 @@ class Grid:
         >>> g.nodes(10)
         (array([0., 9.]), array([ 0., 10., 20., 24.]))
         """
-        if int(step) != step or step <= 0:
-            raise GridError(f"node step must be a positive integer; got {step!r}")
-        return _node_axis(self.height, int(step)), _node_axis(self.width, int(step))
+        return node_axes(self.shape, step)
 
     # ------------------------------------------------------------------- CF
     def to_cf(self) -> dict[str, Any]:
-        """Attributes of a CF grid-mapping variable for this grid.
-
-        ``pyproj.CRS.to_cf()`` (``grid_mapping_name``, parameters,
-        ``crs_wkt``) plus ``spatial_ref`` (the same WKT, read by GDAL) and
-        ``GeoTransform`` (GDAL's six-term transform, as text).
-
-        Returns
-        -------
-        dict
-            Attribute names and values.
+        """Attributes of a CF grid-mapping variable for this grid
+        (:func:`glint.geo.cf.grid_mapping_attributes`).
 
         Examples
         --------
         >>> Grid.from_bounds((0, 0, 100, 100), 10, 32631).to_cf()["grid_mapping_name"]
         'transverse_mercator'
         """
-        attrs = dict(self.crs.to_cf())
-        attrs["spatial_ref"] = attrs.get("crs_wkt", self.crs.to_wkt())
-        t = self.transform
-        attrs["GeoTransform"] = " ".join(f"{v!r}" for v in (t.c, t.a, t.b, t.f, t.d, t.e))
-        return attrs
+        return grid_mapping_attributes(self)
 
-    def cf_coordinates(self) -> dict[str, tuple[np.ndarray, dict[str, str]]]:
-        """1-D pixel-centre coordinates and their CF attributes.
-
-        Returns
-        -------
-        dict
-            ``{"x": (values, attrs), "y": (values, attrs)}``; attrs carry
-            ``standard_name`` (``projection_x_coordinate`` /
-            ``projection_y_coordinate``, or ``longitude`` / ``latitude`` for
-            geographic grids), ``long_name``, ``units`` and ``axis``.
-
-        Examples
-        --------
-        >>> x, attrs = Grid.from_bounds((0, 0, 30, 10), 10, 32631).cf_coordinates()["x"]
-        >>> x, attrs["units"]
-        (array([ 5., 15., 25.]), 'm')
-        """
-        x, _ = self.xy(0, np.arange(self.width))
-        _, y = self.xy(np.arange(self.height), 0)
-        if self.crs.is_geographic:
-            xa = {"standard_name": "longitude", "long_name": "longitude", "units": "degrees_east", "axis": "X"}
-            ya = {"standard_name": "latitude", "long_name": "latitude", "units": "degrees_north", "axis": "Y"}
-        else:
-            unit = self.crs.axis_info[0].unit_name if self.crs.axis_info else "metre"
-            unit = {"metre": "m", "meter": "m", "US survey foot": "US_survey_foot"}.get(unit, unit)
-            xa = {"standard_name": "projection_x_coordinate", "long_name": "x coordinate of projection",
-                  "units": unit, "axis": "X"}
-            ya = {"standard_name": "projection_y_coordinate", "long_name": "y coordinate of projection",
-                  "units": unit, "axis": "Y"}
-        return {"x": (x, xa), "y": (y, ya)}
+    def cf_coordinates(self) -> dict[str, tuple[FloatArray, dict[str, str]]]:
+        """1-D pixel-centre coordinates and their CF attributes
+        (:func:`glint.geo.cf.projection_coordinates`)."""
+        return projection_coordinates(self)
 
 
 @functools.lru_cache(maxsize=16)
-def _lonlat_lattice(grid: Grid) -> tuple[np.ndarray, ...] | None:
-    """Node lattice of lon/lat meeting :data:`LONLAT_TOLERANCE`, or None."""
+def _lonlat_plan(grid: Grid) -> LatticePlan | None:
+    """Node lattice of lon/lat meeting :data:`LONLAT_TOLERANCE`, or None
+    (geographic grids, or no spacing meets it)."""
     if grid.crs.is_geographic:
         return None
-    for _, node_rows, node_cols in grid.lattices((64, 32, 16, 8)):
-        rr, cc = np.meshgrid(node_rows, node_cols, indexing="ij")
-        lon, lat = grid.lonlat(*grid.xy(rr, cc))
-        if not (np.all(np.isfinite(lon)) and np.all(np.isfinite(lat))):
-            return None
-        mr, mc = cell_centres(node_rows), cell_centres(node_cols)
-        exact_lon, exact_lat = grid.lonlat(*grid.xy(*np.meshgrid(mr, mc, indexing="ij")))
-        approx_lon = interpolate_azimuth_nodes(np.mod(lon, 360.0), node_rows, node_cols, mr, mc)
-        approx_lat = interpolate_nodes(lat, node_rows, node_cols, mr, mc)
-        dlon = np.abs(np.mod(approx_lon - exact_lon + 180.0, 360.0) - 180.0)
-        err = max(float(dlon.max()), float(np.abs(approx_lat - exact_lat).max()))
-        if err <= 0.8 * LONLAT_TOLERANCE:
-            return node_rows, node_cols, np.mod(lon, 360.0), lat
-    return None
 
+    def exact(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+        lon, lat = grid.lonlat(*grid.xy(rows, cols))
+        return {"longitude": np.mod(lon, 360.0), "latitude": lat}
 
-def cell_centres(node_axis: np.ndarray, max_cells: int = 400) -> np.ndarray:
-    """Centres of the cells along one node axis: of every cell, or of
-    ``max_cells`` evenly spread cells on longer axes. These are the points
-    farthest from the nodes, where interpolation is checked."""
-    n = len(node_axis)
-    k = np.unique(np.linspace(0, n - 2, min(max_cells, n - 1)).round().astype(int))
-    return 0.5 * (node_axis[k] + node_axis[k + 1])
+    def error(approx: Mapping[str, NDArray[np.floating]], exact: Mapping[str, FloatArray]) -> float:
+        dlon = np.abs(np.mod(approx["longitude"] - exact["longitude"] + 180.0, 360.0) - 180.0)
+        return max(float(dlon.max()), float(np.abs(approx["latitude"] - exact["latitude"]).max()))
 
-
-def _node_axis(n: int, step: int) -> np.ndarray:
-    nodes = np.arange(0, n - 1, step, dtype=float)
-    return np.append(nodes, float(n - 1)) if n > 1 else np.zeros(1)
-
-
-def _axis_weights(nodes: np.ndarray, at: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
-    """Interval index and fractional weight of ``at`` along a node axis."""
-    if nodes.size == 1:
-        return np.zeros(at.shape, dtype=np.intp), np.zeros(at.shape)
-    i = np.clip(np.searchsorted(nodes, at, side="right") - 1, 0, nodes.size - 2)
-    return i, (at - nodes[i]) / (nodes[i + 1] - nodes[i])
-
-
-def _lattice_weights(
-    v: np.ndarray, node_rows: Any, node_cols: Any, rows: Any, cols: Any
-) -> tuple[np.ndarray, ...]:
-    """Validate a node lattice and return ``(v, ir, tr, ic, tc)`` for the
-    compiled loops; a single-node axis is padded to two equal nodes."""
-    nr, nc = np.asarray(node_rows, dtype=float), np.asarray(node_cols, dtype=float)
-    r, c = np.atleast_1d(np.asarray(rows, dtype=float)), np.atleast_1d(np.asarray(cols, dtype=float))
-    if nr.ndim != 1 or nc.ndim != 1 or v.shape != (nr.size, nc.size):
-        raise GridError(
-            f"values_at_nodes has shape {v.shape!r}; expected "
-            f"(len(node_rows), len(node_cols)) = ({nr.size}, {nc.size})"
-        )
-    if np.any(np.diff(nr) <= 0) or np.any(np.diff(nc) <= 0):
-        raise GridError("node_rows and node_cols must be strictly increasing")
-    ir, tr = _axis_weights(nr, r)
-    ic, tc = _axis_weights(nc, c)
-    v = np.asarray(v, dtype=np.float64)
-    if nr.size == 1:
-        v = np.concatenate([v, v], axis=0)
-    if nc.size == 1:
-        v = np.concatenate([v, v], axis=1)
-    return (np.ascontiguousarray(v), ir.astype(np.intp), tr.astype(np.float64),
-            ic.astype(np.intp), tc.astype(np.float64))
-
-
-@numba.njit(parallel=True, cache=True)
-def _bilinear_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
-    """One pass of bilinear interpolation over the output."""
-    for i in numba.prange(ir.size):
-        r0 = ir[i]
-        t = tr[i]
-        for j in range(ic.size):
-            c0 = ic[j]
-            u = tc[j]
-            top = v[r0, c0] * (1.0 - u) + v[r0, c0 + 1] * u
-            bottom = v[r0 + 1, c0] * (1.0 - u) + v[r0 + 1, c0 + 1] * u
-            out[i, j] = top * (1.0 - t) + bottom * t
-
-
-@numba.njit(inline="always")
-def _near(a, ref):  # pragma: no cover - compiled
-    """``a`` shifted by a multiple of 360 into [ref - 180, ref + 180)."""
-    return a - 360.0 * math.floor((a - ref + 180.0) / 360.0)
-
-
-@numba.njit(parallel=True, cache=True)
-def _bilinear_azimuth_loop(v, ir, tr, ic, tc, out):  # pragma: no cover - compiled
-    """Bilinear interpolation of azimuths: the four corners of each cell are
-    taken within 180° of its first corner, interpolated, folded to [0, 360)."""
-    for i in numba.prange(ir.size):
-        r0 = ir[i]
-        t = tr[i]
-        for j in range(ic.size):
-            c0 = ic[j]
-            u = tc[j]
-            a00 = v[r0, c0]
-            a01 = _near(v[r0, c0 + 1], a00)
-            a10 = _near(v[r0 + 1, c0], a00)
-            a11 = _near(v[r0 + 1, c0 + 1], a00)
-            a = (a00 * (1.0 - u) + a01 * u) * (1.0 - t) + (a10 * (1.0 - u) + a11 * u) * t
-            a = a - 360.0 * math.floor(a / 360.0)
-            if a >= 360.0:
-                a -= 360.0
-            out[i, j] = a
-
-
-def interpolate_nodes(
-    values_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any, *, dtype: Any = None
-) -> np.ndarray:
-    """Bilinear interpolation from a node lattice to pixel rows and columns.
-
-    Parameters
-    ----------
-    values_at_nodes : array_like, shape (len(node_rows), len(node_cols))
-        Values at the nodes.
-    node_rows, node_cols : array_like
-        Increasing 1-D node indices (from :meth:`Grid.nodes`).
-    rows, cols : array_like
-        1-D requested rows and columns (fractional allowed). Points outside
-        the node range are extrapolated linearly from the edge interval.
-    dtype : numpy dtype, optional
-        Output type (the arithmetic is float64 either way); default the
-        dtype of ``values_at_nodes`` if floating, else float64.
-
-    Returns
-    -------
-    numpy.ndarray, shape (len(rows), len(cols))
-        Interpolated values. NaN at a node spreads to the cells touching it.
-
-    Raises
-    ------
-    GridError
-        If the shapes do not match or the node axes are not increasing.
-
-    Notes
-    -----
-    ``v = (1 - t)[(1 - u) V[i, j] + u V[i, j + 1]] + t[(1 - u) V[i + 1, j] +
-    u V[i + 1, j + 1]]`` with ``t = (r - R[i]) / (R[i + 1] - R[i])`` and
-    ``u`` likewise along columns: exact for fields linear in row and column
-    (and for bilinear ones). One compiled pass over the output (numba), so a
-    strip of a large grid costs no full-size temporaries.
-
-    Examples
-    --------
-    >>> v = np.array([[0.0, 10.0], [20.0, 30.0]])
-    >>> interpolate_nodes(v, [0, 10], [0, 10], [5], [0, 5, 10])
-    array([[10., 15., 20.]])
-    """
-    v = np.asarray(values_at_nodes)
-    if dtype is None:
-        dtype = v.dtype if np.issubdtype(v.dtype, np.floating) else np.float64
-    v, ir, tr, ic, tc = _lattice_weights(v, node_rows, node_cols, rows, cols)
-    out = np.empty((ir.size, ic.size), dtype=dtype)
-    _bilinear_loop(v, ir, tr, ic, tc, out)
-    return out
-
-
-def interpolate_azimuth_nodes(
-    azimuth_at_nodes: Any, node_rows: Any, node_cols: Any, rows: Any, cols: Any, *, dtype: Any = np.float64
-) -> np.ndarray:
-    """Bilinear interpolation of azimuths [°] across north without a jump.
-
-    Same arguments as :func:`interpolate_nodes`. In each lattice cell the
-    corner azimuths are taken within 180° of the cell's first corner,
-    interpolated bilinearly and folded back into [0, 360): 350° and 10°
-    average to 0°, not 180°.
-
-    Notes
-    -----
-    For a smooth azimuth field this is bilinear interpolation of the angle
-    itself. Where the field turns by 180° or more across one cell (around the
-    nadir of a low sensor, or the sun near the zenith) the result is wrong;
-    callers check interpolated angles against exact values (as
-    :func:`glint.engine.compute.plan_geometry` does) and refine the lattice.
-
-    Examples
-    --------
-    >>> a = np.array([[350.0, 10.0]])
-    >>> float(interpolate_azimuth_nodes(a, [0], [0, 2], [0], [1])[0, 0]) % 360 < 1e-9
-    True
-    """
-    a = np.asarray(azimuth_at_nodes, dtype=float)
-    v, ir, tr, ic, tc = _lattice_weights(a, node_rows, node_cols, rows, cols)
-    out = np.empty((ir.size, ic.size), dtype=dtype)
-    _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
-    return out
+    plan = plan_lattice(grid, exact, error, LONLAT_TOLERANCE, steps=_LONLAT_STEPS,
+                        periodic=("longitude",), require_finite=True)
+    return plan if plan.step else None

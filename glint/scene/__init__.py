@@ -1,4 +1,5 @@
-"""Scenes: the typed :class:`Scene` and its TOML file (layer 3).
+"""Scenes: the typed :class:`Scene` (:mod:`glint.scene.model`) and its TOML
+file (:mod:`glint.scene.loader`), layer 3.
 
 :func:`load_scene` reads a scene file, :func:`scene_from_dict` builds a
 scene from the same structure in memory; both report every problem at once
@@ -7,11 +8,11 @@ with its key path.
 
 from __future__ import annotations
 
-from glint.scene.loader import (
+from glint.scene.loader import SECTIONS, load_scene, scene_from_dict
+from glint.scene.model import (
     CLASS_VARIABLES,
     COMPRESSIONS,
     OUTPUT_FORMATS,
-    SECTIONS,
     WAVELENGTH_RANGE,
     GlintClasses,
     Outputs,
@@ -19,8 +20,6 @@ from glint.scene.loader import (
     SunOptions,
     Surface,
     Water,
-    load_scene,
-    scene_from_dict,
     slugify,
 )
 

@@ -1,4 +1,4 @@
-"""Scene descriptions: a typed :class:`Scene` and its TOML file.
+"""Scene files: TOML loading and validation of a :class:`~glint.scene.model.Scene`.
 
 A scene says *where* (the grid), *when* (one or more UTC times), *who looks*
 (the sensor), and *what the water is like* (wind, wavelength, temperature,
@@ -39,256 +39,60 @@ from __future__ import annotations
 
 import datetime as _dt
 import difflib
-import math
 import re
 import tomllib
-from collections.abc import Callable, Mapping
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, cast
 
 import numpy as np
 
 from glint.errors import GlintError, GridError, InputError, InputFileError, SceneError
 from glint.geo.grid import Grid, parse_crs
-from glint.physics.optics import REFRACTIVE_INDEX_METHODS, water_refractive_index
+from glint.physics.optics import REFRACTIVE_INDEX_METHODS, IndexMethod
+from glint.physics.surface import (
+    ROUGHNESS_LENGTH,
+    SLOPE_DISTRIBUTIONS,
+    SLOPE_MODELS,
+    SlopeDistribution,
+    SlopeModel,
+)
+from glint.scene.model import (
+    CLASS_VARIABLES,
+    COMPRESSIONS,
+    OUTPUT_FORMATS,
+    WAVELENGTH_RANGE,
+    GlintClasses,
+    Outputs,
+    Scene,
+    SunOptions,
+    Surface,
+    Water,
+    slugify,
+)
 from glint.sensors import Sensor, sensor_from_table
 from glint.times import parse_time
-from glint.physics.surface import ROUGHNESS_LENGTH, SLOPE_DISTRIBUTIONS, SLOPE_MODELS, wind_speed_at_height
+from glint.validation import interval_problem
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
 __all__ = [
+    "load_scene",
+    "scene_from_dict",
+    "SECTIONS",
+    # the typed model, re-exported from glint.scene.model
     "Surface",
     "Water",
     "SunOptions",
     "GlintClasses",
     "Outputs",
     "Scene",
-    "load_scene",
-    "scene_from_dict",
     "slugify",
-    "SECTIONS",
     "OUTPUT_FORMATS",
     "COMPRESSIONS",
     "CLASS_VARIABLES",
     "WAVELENGTH_RANGE",
 ]
-
-#: File formats that :func:`glint.workflows.maps.write_maps` can write.
-OUTPUT_FORMATS: tuple[str, ...] = ("geotiff", "netcdf", "png")
-#: Wavelengths [nm] accepted for ``[water] wavelength`` and ``glint sun
-#: --wavelength``: the ultraviolet-to-shortwave-infrared span of optical
-#: remote sensing (common practice); the refractive-index formulas warn
-#: outside their own, narrower validity.
-WAVELENGTH_RANGE: tuple[float, float] = (200.0, 2500.0)
-#: Lossless compressions accepted for raster outputs.
-COMPRESSIONS: tuple[str, ...] = ("zstd", "deflate", "lzw", "none")
-#: Variables a class raster can be derived from (larger value = more glint).
-CLASS_VARIABLES: tuple[str, ...] = ("glint_radiance", "glint_reflectance", "glint_fraction")
-
-
-# --------------------------------------------------------------------------
-# Typed scene
-# --------------------------------------------------------------------------
-
-
-@dataclass(frozen=True)
-class Surface:
-    """State of the water surface.
-
-    Attributes
-    ----------
-    wind_speed : float
-        Wind speed [m s⁻¹] at ``wind_height`` above the water.
-    wind_direction : float or None
-        Direction the wind blows from [°], clockwise from true north;
-        ``None`` means unknown and selects an isotropic slope distribution.
-    wind_height : float
-        Height of the wind measurement above the water [m].
-    slope_model : str
-        Mean-square-slope model, one of :data:`glint.physics.surface.SLOPE_MODELS`.
-    distribution : str
-        Shape of the slope density, one of
-        :data:`glint.physics.surface.SLOPE_DISTRIBUTIONS`.
-    shadowing : bool
-        Whether facets hidden from the sun or the sensor by other waves are
-        removed (matters at grazing angles only).
-    """
-
-    wind_speed: float
-    wind_direction: float | None
-    wind_height: float = 10.0
-    slope_model: str = "cox-munk"
-    distribution: str = "gaussian"
-    shadowing: bool = False
-
-    @property
-    def wind_speed_10m(self) -> float:
-        """Wind speed [m s⁻¹] at 10 m, from a logarithmic wind profile.
-
-        Uses :func:`glint.physics.surface.wind_speed_at_height`; returns
-        ``wind_speed`` unchanged when ``wind_height`` is 10 m.
-        """
-        if self.wind_height == 10.0:
-            return float(self.wind_speed)
-        return float(wind_speed_at_height(self.wind_speed, self.wind_height, target_height=10.0))
-
-
-@dataclass(frozen=True)
-class Water:
-    """Optical properties of the water.
-
-    Attributes
-    ----------
-    wavelength : float
-        Wavelength in vacuum [nm].
-    temperature : float
-        Water temperature [°C].
-    salinity : float
-        Practical salinity [PSU].
-    index_method : str
-        Method of :func:`glint.physics.optics.water_refractive_index`.
-    refractive_index : float or None
-        Refractive index relative to air; when given it overrides the value
-        computed from wavelength, temperature and salinity.
-    """
-
-    wavelength: float = 550.0
-    temperature: float = 20.0
-    salinity: float = 35.0
-    index_method: str = "quan-fry"
-    refractive_index: float | None = None
-
-    def refractive_index_value(self) -> float:
-        """Refractive index of the water relative to air [1].
-
-        Returns the explicit ``refractive_index`` when given, else
-        :func:`glint.physics.optics.water_refractive_index` of ``wavelength``,
-        ``temperature`` and ``salinity`` with ``index_method``.
-        """
-        if self.refractive_index is not None:
-            return float(self.refractive_index)
-        return float(
-            water_refractive_index(
-                self.wavelength,
-                temperature=self.temperature,
-                salinity=self.salinity,
-                method=self.index_method,
-                reference="air",
-            )
-        )
-
-
-@dataclass(frozen=True)
-class SunOptions:
-    """Options of the sun position (see :func:`glint.physics.sun.solar_position`).
-
-    Attributes
-    ----------
-    pressure : float
-        Air pressure at the water surface [hPa] (refraction).
-    air_temperature : float
-        Air temperature at the water surface [°C] (refraction).
-    refraction : bool
-        Whether the sun zenith includes atmospheric refraction.
-    delta_t : float or None
-        TT - UT [s]; ``None`` lets :func:`glint.physics.sun.delta_t` estimate it.
-    surface_elevation : float
-        Height of the water surface above the WGS 84 ellipsoid [m].
-    """
-
-    pressure: float = 1013.25
-    air_temperature: float = 12.0
-    refraction: bool = True
-    delta_t: float | None = None
-    surface_elevation: float = 0.0
-
-
-@dataclass(frozen=True)
-class GlintClasses:
-    """Classes of the glint class raster.
-
-    Pixel values ``i`` in ``0 .. len(thresholds)`` mean
-    ``thresholds[i-1] <= value < thresholds[i]`` of ``variable`` and are
-    labelled ``names[i]``.
-
-    The default thresholds on the normalised glint radiance, 1e-4 and
-    5e-3 sr⁻¹, bracket the range in which Wang and Bailey (2001) correct
-    glint in ocean-colour imagery and above which they mask it (values from
-    memory; doi:10.1364/AO.40.004790).
-    """
-
-    variable: str = "glint_radiance"
-    thresholds: tuple[float, ...] = (1e-4, 5e-3)
-    names: tuple[str, ...] = ("negligible", "correctable", "severe")
-
-
-@dataclass(frozen=True)
-class Outputs:
-    """What to write and how.
-
-    Attributes
-    ----------
-    formats : tuple of str
-        Subset of :data:`OUTPUT_FORMATS`.
-    variables : tuple of str
-        Subset of :data:`glint.variables.VARIABLES`.
-    cog : bool
-        Write GeoTIFFs as Cloud Optimized GeoTIFFs.
-    compression : str
-        One of :data:`COMPRESSIONS`.
-    stem : str or None
-        File-name stem; ``None`` uses :func:`slugify` of the scene name.
-    """
-
-    formats: tuple[str, ...] = OUTPUT_FORMATS
-    variables: tuple[str, ...] = DEFAULT_VARIABLES
-    cog: bool = False
-    compression: str = "zstd"
-    stem: str | None = None
-
-
-@dataclass(frozen=True)
-class Scene:
-    """Everything needed to compute and write glint maps.
-
-    Build scenes with :func:`load_scene` or :func:`scene_from_dict`, which
-    validate every field; change one with :func:`dataclasses.replace`.
-    """
-
-    name: str
-    times: tuple[np.datetime64, ...]
-    grid: Grid
-    sensor: Sensor
-    surface: Surface
-    water: Water
-    sun: SunOptions
-    classes: GlintClasses
-    outputs: Outputs
-    description: str = ""
-    tie_point_tolerance: float = 1e-4
-    source: Path | None = None
-
-    @property
-    def file_stem(self) -> str:
-        """Stem of output file names: ``outputs.stem`` or the slug of ``name``."""
-        return self.outputs.stem or slugify(self.name)
-
-
-def slugify(text: str) -> str:
-    """Turn a free-text name into a file-name stem.
-
-    Runs of characters other than ASCII letters and digits become ``_``;
-    the result is lower case, ``"scene"`` if nothing is left.
-
-    Examples
-    --------
-    >>> slugify("Saltmarsh Reach inlet, morning survey")
-    'saltmarsh_reach_inlet_morning_survey'
-    """
-    slug = re.sub(r"[^A-Za-z0-9]+", "_", text).strip("_").lower()
-    return slug or "scene"
-
 
 # --------------------------------------------------------------------------
 # Schema
@@ -306,22 +110,11 @@ class _Key:
 
 def _range(low: float | None = None, high: float | None = None, *, low_open: bool = False,
            high_open: bool = False, unit: str = "") -> Callable[[Any], str | None]:
+    """A key check: every number of the value lies in the interval
+    (:func:`glint.validation.interval_problem`)."""
     def check(value: Any) -> str | None:
-        values = value if isinstance(value, (list, tuple)) else [value]
-        for v in values:
-            bad = not math.isfinite(v)
-            if low is not None:
-                bad |= v <= low if low_open else v < low
-            if high is not None:
-                bad |= v >= high if high_open else v > high
-            if bad:
-                u = f" {unit}" if unit else ""
-                if high is None:
-                    return f"must be {'>' if low_open else '>='} {low:g}{u}; got {v!r}"
-                lb = "(" if low_open else "["
-                hb = ")" if high_open else "]"
-                return f"must lie in {lb}{low:g}, {high:g}{hb}{u}; got {v!r}"
-        return None
+        return interval_problem(value, low, high, low_open=low_open, high_open=high_open,
+                                unit=unit)
 
     return check
 
@@ -334,7 +127,7 @@ def _wavelength_check(value: Any) -> str | None:
 
 
 def _wind_height_check(value: Any) -> str | None:
-    if not math.isfinite(value) or value <= ROUGHNESS_LENGTH:
+    if interval_problem(value, ROUGHNESS_LENGTH, None, low_open=True) is not None:
         return (f"must exceed the roughness length {ROUGHNESS_LENGTH:g} m of the "
                 f"logarithmic wind profile; got {value!r} (the height of the wind "
                 "measurement above the water, in metres, e.g. 10)")
@@ -536,9 +329,9 @@ def _check_keys(section: str, table: Mapping[str, Any], problems: _Problems) -> 
                          f"{_show(value)}")
             continue
         if k.check is not None:
-            msg = k.check(value)
-            if msg:
-                problems.add(path, msg)
+            bad = k.check(value)
+            if bad:
+                problems.add(path, bad)
                 continue
         good[key] = value
     for key, k in spec.items():
@@ -648,14 +441,16 @@ def _build_grid(table: Mapping[str, Any], base_dir: Path, problems: _Problems) -
         if box_keys:
             return Grid.from_lonlat_box(good["west"], good["south"], good["east"],
                                         good["north"], good["resolution"], crs=crs)
-        return Grid.from_bounds(tuple(float(v) for v in good["bounds"]), good["resolution"],
-                                crs)
+        left, bottom, right, top = (float(v) for v in good["bounds"])
+        return Grid.from_bounds((left, bottom, right, top), good["resolution"], crs)
     except (GridError, InputError) as exc:
         problems.add("grid", str(exc))
     return None
 
 
-def _build_classes(good: dict[str, Any], problems: _Problems) -> GlintClasses:
+def _build_classes(table: Mapping[str, Any], problems: _Problems) -> GlintClasses:
+    """[classes]: the class raster's variable, thresholds and names."""
+    good = _check_keys("classes", table, problems)
     thresholds = tuple(float(v) for v in good.get("thresholds", GlintClasses.thresholds))
     names = tuple(good.get("names", GlintClasses.names)) if "names" in good else None
     ok = True
@@ -687,22 +482,149 @@ def _build_classes(good: dict[str, Any], problems: _Problems) -> GlintClasses:
                         thresholds=thresholds, names=names)
 
 
-def _check_sensor_time(sensor: Sensor, times: tuple, problems: Any) -> None:
+def _check_sensor_time(sensor: Sensor, times: Sequence[np.datetime64],
+                       problems: _Problems) -> None:
     """A sensor whose imaging time is fixed in its own table (a push-broom's
     ``centre_time``, a line scanner's ``start_time``) must agree with every
     scene time: a map at another time would show the fixed time's geometry
     under another label."""
-    key = getattr(sensor, "time_key", None)
-    pinned = getattr(sensor, key, None) if key else None
-    if pinned is None:
+    key, pinned = sensor.time_key, sensor.fixed_time
+    if key is None or pinned is None:
         return
     other = [t for t in times if t != pinned]
     if other:
-        shown = ", ".join(str(np.datetime64(t, "s")) + "Z" for t in other[:3])
+        shown = ", ".join(f"{np.datetime_as_string(t, unit='s')}Z" for t in other[:3])
         problems.add(f"sensor.{key}",
-                     f"{np.datetime64(pinned, 's')}Z differs from the scene time(s) {shown}; "
+                     f"{np.datetime_as_string(pinned, unit='s')}Z differs from the scene time(s) {shown}; "
                      f"the sensor images the scene at its own times, so leave out sensor.{key} "
                      "(it then follows the scene time, also under --time) or map that time")
+
+
+def _section_tables(data: Mapping[str, Any], problems: _Problems) -> dict[str, Mapping[str, Any]]:
+    """The tables of the known sections; unknown, non-table and missing
+    required sections are problems."""
+    tables: dict[str, Mapping[str, Any]] = {}
+    for name, table in data.items():
+        if name not in SECTIONS:
+            msg = "unknown section"
+            close = difflib.get_close_matches(str(name), list(SECTIONS), n=1)
+            if close:
+                msg += f" (did you mean [{close[0]}]?)"
+            problems.add(str(name), f"{msg}; allowed sections: {', '.join(SECTIONS)}")
+        elif not isinstance(table, Mapping):
+            problems.add(name, f"expected a table [{name}], got {_type_name(table)} "
+                         f"{_show(table)}")
+        else:
+            tables[name] = table
+    for name in _REQUIRED_SECTIONS:
+        if name not in data:
+            problems.add(name, f"required section [{name}] is missing")
+    return tables
+
+
+@dataclass(frozen=True)
+class _SceneSection:
+    """What [scene] gives: name, times, description, tie-point tolerance."""
+
+    name: str | None
+    times: tuple[np.datetime64, ...]
+    description: str
+    tie_point_tolerance: float
+
+
+def _build_scene_section(tables: Mapping[str, Mapping[str, Any]], source: Path | str | None,
+                         problems: _Problems) -> _SceneSection:
+    """[scene]: name (default: the file's stem), time or times, description,
+    tie_point_tolerance."""
+    present = "scene" in tables
+    st = tables.get("scene", {})
+    good = _check_keys("scene", {k: v for k, v in st.items() if k not in ("time", "times")},
+                       problems)
+    times = _read_times(st, problems) if present else ()
+    name: str | None = good.get("name")
+    if name is None and "name" not in st:
+        if source is not None:
+            name = Path(source).stem
+        elif present:
+            problems.add("scene.name", "required key is missing (a short name of the scene)")
+    return _SceneSection(name, times, str(good.get("description", "")),
+                         float(good.get("tie_point_tolerance", 1e-4)))
+
+
+def _build_sensor(tables: Mapping[str, Mapping[str, Any]], base_dir: Path, grid: Grid | None,
+                  times: Sequence[np.datetime64], problems: _Problems) -> Sensor | None:
+    """[sensor]: built and checked by :func:`glint.sensors.sensor_from_table`;
+    a time fixed by the sensor must agree with the scene times."""
+    if "sensor" not in tables:
+        return None
+    try:
+        sensor = sensor_from_table(dict(tables["sensor"]), key="sensor", base_dir=base_dir,
+                                   grid=grid)
+    except SceneError as exc:
+        problems.items.extend(exc.problems)
+        return None
+    except GlintError as exc:  # e.g. InputFileError of an angle raster
+        problems.add("sensor", str(exc))
+        return None
+    _check_sensor_time(sensor, times, problems)
+    return sensor
+
+
+def _build_surface(tables: Mapping[str, Mapping[str, Any]], problems: _Problems) -> Surface | None:
+    """[surface]: wind and slope model (None when wind_speed is missing or bad)."""
+    if "surface" not in tables:
+        return None
+    sf = _check_keys("surface", tables["surface"], problems)
+    if sf.get("distribution") == "gram-charlier" and "wind_direction" not in tables["surface"]:
+        problems.add("surface.distribution", "'gram-charlier' needs surface.wind_direction "
+                     "(its skewness points along the wind); give wind_direction [deg, the "
+                     "direction the wind blows from] or use distribution = \"gaussian\"")
+    if "wind_speed" not in sf:
+        return None
+    return Surface(
+        wind_speed=float(sf["wind_speed"]),
+        wind_direction=None if "wind_direction" not in sf else float(sf["wind_direction"]),
+        wind_height=float(sf.get("wind_height", 10.0)),
+        slope_model=cast(SlopeModel, sf.get("slope_model", "cox-munk")),
+        distribution=cast(SlopeDistribution, sf.get("distribution", "gaussian")),
+        shadowing=bool(sf.get("shadowing", False)),
+    )
+
+
+def _build_water(tables: Mapping[str, Mapping[str, Any]], problems: _Problems) -> Water:
+    """[water]: wavelength, temperature, salinity, refractive index."""
+    wt = _check_keys("water", tables.get("water", {}), problems)
+    return Water(
+        wavelength=float(wt.get("wavelength", 550.0)),
+        temperature=float(wt.get("temperature", 20.0)),
+        salinity=float(wt.get("salinity", 35.0)),
+        index_method=cast(IndexMethod, wt.get("index_method", "quan-fry")),
+        refractive_index=None if "refractive_index" not in wt else float(wt["refractive_index"]),
+    )
+
+
+def _build_sun(tables: Mapping[str, Mapping[str, Any]], problems: _Problems) -> SunOptions:
+    """[sun]: options of the sun position."""
+    sn = _check_keys("sun", tables.get("sun", {}), problems)
+    return SunOptions(
+        pressure=float(sn.get("pressure", 1013.25)),
+        air_temperature=float(sn.get("air_temperature", 12.0)),
+        refraction=bool(sn.get("refraction", True)),
+        delta_t=None if "delta_t" not in sn else float(sn["delta_t"]),
+        surface_elevation=float(sn.get("surface_elevation", 0.0)),
+    )
+
+
+def _build_outputs(tables: Mapping[str, Mapping[str, Any]], problems: _Problems) -> Outputs:
+    """[outputs]: formats, variables, COG, compression, file-name stem."""
+    out = _check_keys("outputs", tables.get("outputs", {}), problems)
+    return Outputs(
+        formats=tuple(out.get("formats", OUTPUT_FORMATS)),
+        variables=tuple(out.get("variables", DEFAULT_VARIABLES)),
+        cog=bool(out.get("cog", False)),
+        compression=str(out.get("compression", "zstd")),
+        stem=out.get("stem"),
+    )
 
 
 def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
@@ -730,6 +652,12 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
     SceneError
         Listing every problem found, each prefixed by its key path.
 
+    Notes
+    -----
+    Each section has its own builder, which reports every problem of that
+    section with its key path; the scene is assembled only when no section
+    had a problem.
+
     Examples
     --------
     >>> scene = scene_from_dict({
@@ -745,104 +673,24 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
     """
     base_dir = Path(base_dir)
     src = str(source) if source is not None else None
-    problems = _Problems()
     if not isinstance(data, Mapping):
         raise SceneError([f"expected a table of sections, got {_type_name(data)}"], src)
-
-    tables: dict[str, Mapping[str, Any]] = {}
-    for name, table in data.items():
-        if name not in SECTIONS:
-            msg = "unknown section"
-            close = difflib.get_close_matches(str(name), list(SECTIONS), n=1)
-            if close:
-                msg += f" (did you mean [{close[0]}]?)"
-            problems.add(str(name), f"{msg}; allowed sections: {', '.join(SECTIONS)}")
-        elif not isinstance(table, Mapping):
-            problems.add(name, f"expected a table [{name}], got {_type_name(table)} "
-                         f"{_show(table)}")
-        else:
-            tables[name] = table
-    for name in _REQUIRED_SECTIONS:
-        if name not in data:
-            problems.add(name, f"required section [{name}] is missing")
-
-    # [scene]
-    st = tables.get("scene", {})
-    scene_good = _check_keys("scene", {k: v for k, v in st.items()
-                                       if k not in ("time", "times")}, problems)
-    times = _read_times(st, problems) if "scene" in tables else ()
-    name = scene_good.get("name")
-    if name is None and "name" not in st:
-        if source is not None:
-            name = Path(source).stem
-        elif "scene" in tables:
-            problems.add("scene.name", "required key is missing (a short name of the scene)")
-
-    # [grid]
+    problems = _Problems()
+    tables = _section_tables(data, problems)
+    head = _build_scene_section(tables, source, problems)
     grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
-
-    # [sensor]
-    sensor = None
-    if "sensor" in tables:
-        try:
-            sensor = sensor_from_table(dict(tables["sensor"]), key="sensor",
-                                       base_dir=base_dir, grid=grid)
-        except SceneError as exc:
-            problems.items.extend(exc.problems)
-        except GlintError as exc:  # e.g. InputFileError of an angle raster
-            problems.add("sensor", str(exc))
-        else:
-            _check_sensor_time(sensor, times, problems)
-
-    # [surface], [water], [sun], [classes], [outputs]
-    sf = _check_keys("surface", tables.get("surface", {}), problems) \
-        if "surface" in tables else {}
-    if sf.get("distribution") == "gram-charlier" and "wind_direction" not in tables["surface"]:
-        problems.add("surface.distribution", "'gram-charlier' needs surface.wind_direction "
-                     "(its skewness points along the wind); give wind_direction [deg, the "
-                     "direction the wind blows from] or use distribution = \"gaussian\"")
-    wt = _check_keys("water", tables.get("water", {}), problems)
-    sn = _check_keys("sun", tables.get("sun", {}), problems)
-    cl = _check_keys("classes", tables.get("classes", {}), problems)
-    out = _check_keys("outputs", tables.get("outputs", {}), problems)
-    classes = _build_classes(cl, problems)
-
-    if problems.items:
-        raise SceneError(problems.items, src)
-
-    surface = Surface(
-        wind_speed=float(sf["wind_speed"]),
-        wind_direction=None if "wind_direction" not in sf else float(sf["wind_direction"]),
-        wind_height=float(sf.get("wind_height", 10.0)),
-        slope_model=sf.get("slope_model", "cox-munk"),
-        distribution=sf.get("distribution", "gaussian"),
-        shadowing=bool(sf.get("shadowing", False)),
-    )
-    water = Water(
-        wavelength=float(wt.get("wavelength", 550.0)),
-        temperature=float(wt.get("temperature", 20.0)),
-        salinity=float(wt.get("salinity", 35.0)),
-        index_method=wt.get("index_method", "quan-fry"),
-        refractive_index=None if "refractive_index" not in wt else float(wt["refractive_index"]),
-    )
-    sun = SunOptions(
-        pressure=float(sn.get("pressure", 1013.25)),
-        air_temperature=float(sn.get("air_temperature", 12.0)),
-        refraction=bool(sn.get("refraction", True)),
-        delta_t=None if "delta_t" not in sn else float(sn["delta_t"]),
-        surface_elevation=float(sn.get("surface_elevation", 0.0)),
-    )
-    outputs = Outputs(
-        formats=tuple(out.get("formats", OUTPUT_FORMATS)),
-        variables=tuple(out.get("variables", DEFAULT_VARIABLES)),
-        cog=bool(out.get("cog", False)),
-        compression=out.get("compression", "zstd"),
-        stem=out.get("stem"),
-    )
-    assert grid is not None and sensor is not None and name is not None
+    sensor = _build_sensor(tables, base_dir, grid, head.times, problems)
+    surface = _build_surface(tables, problems)
+    water = _build_water(tables, problems)
+    sun = _build_sun(tables, problems)
+    classes = _build_classes(tables.get("classes", {}), problems)
+    outputs = _build_outputs(tables, problems)
+    if (problems.items or grid is None or sensor is None or surface is None
+            or head.name is None):
+        raise SceneError(problems.items or ["incomplete scene"], src)
     return Scene(
-        name=name,
-        times=times,
+        name=head.name,
+        times=head.times,
         grid=grid,
         sensor=sensor,
         surface=surface,
@@ -850,8 +698,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         sun=sun,
         classes=classes,
         outputs=outputs,
-        description=scene_good.get("description", ""),
-        tie_point_tolerance=float(scene_good.get("tie_point_tolerance", 1e-4)),
+        description=head.description,
+        tie_point_tolerance=head.tie_point_tolerance,
         source=Path(source) if source is not None else None,
     )
 

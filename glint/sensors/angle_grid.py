@@ -18,7 +18,8 @@ from glint.validation import wrap_azimuth
 from glint.errors import GridError, InputFileError, SensorError
 from glint.sensors.angle_rasters import _build_pair
 from glint.sensors.base import GroundPoints, TableReader, ViewAngles, register_sensor_kind
-from glint.sensors.fixed_direction import AZIMUTH_REFERENCES
+from glint.sensors.fixed_direction import AZIMUTH_REFERENCES, AzimuthReference
+from glint.validation import check_choice
 
 __all__ = ["AngleGrid", "bilinear_at_points"]
 
@@ -115,6 +116,9 @@ class AngleGrid:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, zenith: Any, azimuth: Any, crs: Any, transform: Any, *,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
@@ -126,9 +130,7 @@ class AngleGrid:
                               f"got {z.shape!r} and {a.shape!r}")
         if min(z.shape) < 2:
             raise SensorError(f"an angle grid needs at least 2 x 2 nodes; got {z.shape!r}")
-        if azimuth_reference not in AZIMUTH_REFERENCES:
-            raise SensorError(f"azimuth_reference must be one of {AZIMUTH_REFERENCES!r}; "
-                              f"got {azimuth_reference!r}")
+        check_choice(azimuth_reference, "azimuth_reference", AZIMUTH_REFERENCES, error=SensorError)
         self.node_grid = Grid(crs, transform, z.shape)
         self.zenith, self.azimuth = z, a
         self.azimuth_reference = azimuth_reference
@@ -194,7 +196,7 @@ class AngleGrid:
     summary="coarse grid of view angles with its own georeferencing, interpolated",
 )
 def _build(r: TableReader) -> AngleGrid | None:
-    def make(z: Any, a: Any, ref: str) -> AngleGrid | None:
+    def make(z: Any, a: Any, ref: AzimuthReference) -> AngleGrid | None:
         try:
             return AngleGrid.from_bands(z, a, azimuth_reference=ref)
         except (SensorError, GridError) as exc:

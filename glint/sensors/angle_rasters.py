@@ -50,6 +50,9 @@ class AngleRasters:
     """
 
     smooth = False
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, zenith: Any, azimuth: Any, grid: Any, *,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
@@ -134,7 +137,7 @@ def _build_pair(r: TableReader, make: Any, *, need_grid: bool) -> Any:
     if need_grid and r.grid is None:
         r.problem(None, "cannot check the angle rasters without a valid [grid]")
         return None
-    if r.problems or None in (ref, zb, ab, zpath, apath):
+    if r.problems or ref is None or zb is None or ab is None or zpath is None or apath is None:
         return None
     try:
         zen, az = open_band(zpath, zb), open_band(apath, ab)

@@ -22,8 +22,18 @@ from pathlib import Path
 from typing import Any, Protocol, runtime_checkable
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
-from glint.validation import WGS84_A, WGS84_B, WGS84_F, wrap_azimuth
+from glint.geo.grid import Grid
+
+from glint.validation import (
+    WGS84_A,
+    WGS84_B,
+    WGS84_F,
+    choice_problem,
+    interval_problem,
+    wrap_azimuth,
+)
 from glint.errors import GlintError, SceneError, SensorError
 from glint.times import parse_time
 
@@ -39,15 +49,15 @@ __all__ = [
     "lonlat_from_ecef",
     "enu_basis",
     "angles_to_position",
-    "check_positive",
-    "check_open_interval",
-    "check_closed_interval",
+    "ns_time",
     "ellipsoid_point_along",
     "local_radius",
     "heading_vector",
     "GreatCircleTrack",
     "TableReader",
 ]
+
+FloatArray = NDArray[np.float64]
 
 #: First eccentricity squared of WGS 84.
 _E2 = WGS84_F * (2.0 - WGS84_F)
@@ -78,17 +88,17 @@ class GroundPoints:
         The scene grid.
     """
 
-    x: np.ndarray
-    y: np.ndarray
-    lon: np.ndarray
-    lat: np.ndarray
-    row: np.ndarray
-    col: np.ndarray
-    convergence: np.ndarray
-    grid: Any = None
+    x: FloatArray
+    y: FloatArray
+    lon: FloatArray
+    lat: FloatArray
+    row: FloatArray
+    col: FloatArray
+    convergence: FloatArray
+    grid: Grid | None = None
 
     @classmethod
-    def from_pixels(cls, grid: Any, rows: Any, cols: Any) -> GroundPoints:
+    def from_pixels(cls, grid: Grid, rows: ArrayLike, cols: ArrayLike) -> GroundPoints:
         """Ground points at (fractional) pixel indices of ``grid``.
 
         Examples
@@ -102,20 +112,22 @@ class GroundPoints:
         rows, cols = np.broadcast_arrays(np.asarray(rows, float), np.asarray(cols, float))
         x, y = grid.xy(rows, cols)
         lon, lat = grid.lonlat(x, y)
-        conv = grid.meridian_convergence(lon, lat)
+        conv = grid.meridian_convergence(longitude=lon, latitude=lat)
         return cls(x=x, y=y, lon=lon, lat=lat, row=rows, col=cols, convergence=conv, grid=grid)
 
     @classmethod
-    def from_lonlat(cls, lon: Any, lat: Any, grid: Any = None) -> GroundPoints:
+    def from_lonlat(cls, longitude: ArrayLike, latitude: ArrayLike,
+                    grid: Grid | None = None) -> GroundPoints:
         """Ground points at longitudes/latitudes [°]; grid terms from ``grid``
-        if given, else ``x = lon``, ``y = lat``, NaN row/col, zero convergence.
+        if given, else ``x = longitude``, ``y = latitude``, NaN row/col, zero
+        convergence.
 
         Examples
         --------
-        >>> GroundPoints.from_lonlat(3.0, 55.0).lat
+        >>> GroundPoints.from_lonlat(longitude=3.0, latitude=55.0).lat
         array(55.)
         """
-        lon, lat = np.broadcast_arrays(np.asarray(lon, float), np.asarray(lat, float))
+        lon, lat = np.broadcast_arrays(np.asarray(longitude, float), np.asarray(latitude, float))
         if grid is None:
             nan = np.full(lon.shape, np.nan)
             return cls(x=lon, y=lat, lon=lon, lat=lat, row=nan, col=nan,
@@ -125,7 +137,7 @@ class GroundPoints:
         tr = Transformer.from_crs("EPSG:4326", grid.crs, always_xy=True)
         x, y = (np.asarray(v, float) for v in tr.transform(lon, lat))
         row, col = grid.index(x, y)
-        conv = grid.meridian_convergence(lon, lat)
+        conv = grid.meridian_convergence(longitude=lon, latitude=lat)
         return cls(x=x, y=y, lon=lon, lat=lat, row=row, col=col, convergence=conv, grid=grid)
 
     @property
@@ -153,10 +165,10 @@ class ViewAngles:
         ``"scan_angle"`` [°] and ``"unseen"`` (number of points not seen).
     """
 
-    view_zenith: np.ndarray
-    view_azimuth: np.ndarray
-    time: np.ndarray | None = None
-    extras: dict = field(default_factory=dict)
+    view_zenith: FloatArray
+    view_azimuth: FloatArray
+    time: NDArray[np.datetime64] | None = None
+    extras: dict[str, NDArray[Any] | int] = field(default_factory=dict)
 
 
 @runtime_checkable
@@ -166,63 +178,38 @@ class Sensor(Protocol):
     ``smooth`` is True when the angles vary slowly enough over the scene to be
     interpolated from tie-point nodes; False when they must be evaluated at
     every pixel (sharp image or swath edges, per-pixel rasters).
+
+    ``time_key`` and ``fixed_time``: a sensor whose imaging time is fixed in
+    its own scene-file table (a push-broom's ``centre_time``, a line
+    scanner's ``start_time``) names that key and gives the time; every other
+    sensor has ``None`` for both and follows the scene time. The scene
+    checks that a fixed time agrees with every scene time.
     """
 
-    smooth: bool
+    @property
+    def smooth(self) -> bool: ...
 
-    def view_angles(self, points: GroundPoints, time: np.datetime64) -> ViewAngles:
+    @property
+    def time_key(self) -> str | None: ...
+
+    @property
+    def fixed_time(self) -> np.datetime64 | None: ...
+
+    def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles (and imaging times) at ``points``; ``time`` is the scene time."""
         ...
 
 
-# --------------------------------------------------------------------------
-# checks shared by the sensor constructors
-# --------------------------------------------------------------------------
-def _scalar(value: Any, name: str) -> float:
-    try:
-        v = float(value)
-    except (TypeError, ValueError) as exc:
-        raise SensorError(f"{name} must be a number; got {value!r}") from exc
-    if not np.isfinite(v):
-        raise SensorError(f"{name} must be finite; got {value!r}")
-    return v
-
-
-def check_positive(value: Any, name: str, unit: str = "") -> float:
-    """Return ``value`` as a float, or raise :class:`SensorError` unless > 0.
+def ns_time(value: Any) -> np.datetime64:
+    """``value`` (a datetime64 or anything numpy reads as one) as a
+    datetime64[ns] scalar.
 
     Examples
     --------
-    >>> check_positive(3, "altitude", "m")
-    3.0
+    >>> ns_time(np.datetime64("2026-06-14T10:00:00"))
+    np.datetime64('2026-06-14T10:00:00.000000000')
     """
-    v = _scalar(value, name)
-    if not v > 0.0:
-        raise SensorError(f"{name} must be > 0{' ' + unit if unit else ''}; got {value!r}")
-    return v
-
-
-def check_open_interval(value: Any, name: str, low: float, high: float, unit: str = "deg") -> float:
-    """Return ``value`` as a float, or raise :class:`SensorError` unless
-    ``low < value < high``.
-
-    Examples
-    --------
-    >>> check_open_interval(60, "horizontal_fov", 0, 180)
-    60.0
-    """
-    v = _scalar(value, name)
-    if not low < v < high:
-        raise SensorError(f"{name} must lie in ({low:g}, {high:g}) {unit}; got {value!r}")
-    return v
-
-
-def check_closed_interval(value: Any, name: str, low: float, high: float, unit: str = "deg") -> float:
-    """Return ``value`` as a float, or raise unless ``low <= value <= high``."""
-    v = _scalar(value, name)
-    if not low <= v <= high:
-        raise SensorError(f"{name} must lie in [{low:g}, {high:g}] {unit}; got {value!r}")
-    return v
+    return np.datetime64(np.asarray(value, dtype="datetime64[ns]").item(), "ns")
 
 
 # --------------------------------------------------------------------------
@@ -326,8 +313,9 @@ def enu_basis(lon: Any, lat: Any) -> tuple[tuple[np.ndarray, ...], ...]:
     return east, north, up
 
 
-def _dot(a: Sequence[np.ndarray], b: Sequence[np.ndarray]) -> np.ndarray:
-    return a[0] * b[0] + a[1] * b[1] + a[2] * b[2]
+def _dot(a: Sequence[ArrayLike] | FloatArray, b: Sequence[ArrayLike] | FloatArray) -> FloatArray:
+    (a0, a1, a2), (b0, b1, b2) = (np.asarray(v, float) for v in a), (np.asarray(v, float) for v in b)
+    return np.asarray(a0 * b0 + a1 * b1 + a2 * b2, dtype=float)
 
 
 def angles_to_position(
@@ -532,18 +520,10 @@ class TableReader:
             self.problem(name, f"must be a finite number{' in ' + unit if unit else ''}; got {v!r}")
             return None
         v = float(v)
-        bad = (low is not None and (v <= low if low_open else v < low)) or (
-            high is not None and (v >= high if high_open else v > high))
-        if bad:
-            u = f" {unit}" if unit else ""
-            if high is None:
-                rng = f"be {'>' if low_open else '>='} {low:g}{u}"
-            elif low is None:
-                rng = f"be {'<' if high_open else '<='} {high:g}{u}"
-            else:
-                rng = (f"lie in {'(' if low_open else '['}{low:g}, {high:g}"
-                       f"{')' if high_open else ']'}{u}")
-            self.problem(name, f"must {rng}, got {v!r}")
+        msg = interval_problem(v, low, high, low_open=low_open, high_open=high_open, unit=unit,
+                               sep=", got")
+        if msg is not None:
+            self.problem(name, msg)
             return None
         return v
 
@@ -568,10 +548,11 @@ class TableReader:
                 self.problem(name, f"required key is missing; allowed values: {', '.join(map(repr, choices))}")
             return None if default is _MISSING else default
         v = self.table[name]
-        if v not in choices:
-            self.problem(name, f"must be one of {', '.join(map(repr, choices))}; got {v!r}")
+        msg = choice_problem(v, choices)
+        if msg is not None:
+            self.problem(name, msg)
             return None
-        return v
+        return str(v)
 
     def integer(self, name: str, *, default: Any = _MISSING, low: int = 1) -> int | None:
         """A whole number >= ``low``."""

@@ -64,7 +64,7 @@ class FixedCamera(FrameCamera):
         return tuple(self._enu[i, 0] * d[0] + self._enu[i, 1] * d[1] + self._enu[i, 2] * d[2]
                      for i in range(3))
 
-    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, ...]:
+    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         m = self._enu
         d = [de * m[0, k] + dn * m[1, k] + du * m[2, k] for k in range(3)]
         scale = (WGS84_A, WGS84_A, WGS84_B)

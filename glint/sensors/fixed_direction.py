@@ -7,24 +7,24 @@ north and converted per pixel with the meridian convergence.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 
-from glint.validation import wrap_azimuth
+from glint.validation import check_choice, check_number, wrap_azimuth
 from glint.errors import SensorError
 from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
-    check_closed_interval,
     register_sensor_kind,
 )
 
 __all__ = ["FixedDirection", "AZIMUTH_REFERENCES"]
 
 #: Allowed values of ``azimuth_reference``.
-AZIMUTH_REFERENCES = ("true-north", "grid")
+AzimuthReference = Literal["true-north", "grid"]
+AZIMUTH_REFERENCES: tuple[AzimuthReference, ...] = ("true-north", "grid")
 
 
 class FixedDirection:
@@ -54,15 +54,16 @@ class FixedDirection:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, *, view_zenith: float, view_azimuth: float,
                  azimuth_reference: Literal["true-north", "grid"] = "true-north") -> None:
-        self.view_zenith = check_closed_interval(view_zenith, "view_zenith", 0.0, 90.0 - 1e-9)
-        self.view_azimuth = float(wrap_azimuth(check_closed_interval(
-            view_azimuth, "view_azimuth", -360.0, 360.0)))
-        if azimuth_reference not in AZIMUTH_REFERENCES:
-            raise SensorError(f"azimuth_reference must be one of {AZIMUTH_REFERENCES!r}; "
-                              f"got {azimuth_reference!r}")
+        self.view_zenith = check_number(view_zenith, "view_zenith", 0.0, 90.0, high_open=True,
+                                        unit="deg", error=SensorError)
+        self.view_azimuth = float(wrap_azimuth(check_number(view_azimuth, "view_azimuth", -360.0, 360.0, unit="deg", error=SensorError)))
+        check_choice(azimuth_reference, "azimuth_reference", AZIMUTH_REFERENCES, error=SensorError)
         self.azimuth_reference = azimuth_reference
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
@@ -89,6 +90,7 @@ def _build(r: TableReader) -> FixedDirection | None:
     vz = r.number("view_zenith", low=0.0, high=90.0, high_open=True, unit="deg")
     va = r.number("view_azimuth", low=0.0, high=360.0, high_open=True, unit="deg")
     ref = r.choice("azimuth_reference", AZIMUTH_REFERENCES, default="true-north")
-    if None in (vz, va, ref):
+    if vz is None or va is None or ref is None:
         return None
-    return FixedDirection(view_zenith=vz, view_azimuth=va, azimuth_reference=ref)
+    return FixedDirection(view_zenith=vz, view_azimuth=va,
+                          azimuth_reference=cast(AzimuthReference, ref))

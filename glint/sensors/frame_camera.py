@@ -49,14 +49,12 @@ import numpy as np
 from pyproj import Transformer
 
 from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_open_interval,
-    check_positive,
     ecef_from_lonlat,
     register_sensor_kind,
 )
@@ -152,6 +150,9 @@ class FrameCamera:
     """
 
     smooth = False
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
     surface = "plane"
 
     def __init__(self, *, lon: float, lat: float, altitude: float, image_size: tuple[int, int],
@@ -159,9 +160,9 @@ class FrameCamera:
                  sensor_height: float | None = None, horizontal_fov: float | None = None,
                  vertical_fov: float | None = None, heading: float = 0.0, pitch: float = -90.0,
                  roll: float = 0.0) -> None:
-        self.lon = check_closed_interval(lon, "lon", -180.0, 180.0)
-        self.lat = check_closed_interval(lat, "lat", -90.0, 90.0)
-        self.altitude = check_positive(altitude, "altitude", "m")
+        self.lon = check_number(lon, "lon", -180.0, 180.0, unit="deg", error=SensorError)
+        self.lat = check_number(lat, "lat", -90.0, 90.0, unit="deg", error=SensorError)
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
         try:
             cols, rows = image_size
             if int(cols) != cols or int(rows) != rows or cols < 1 or rows < 1:
@@ -170,26 +171,26 @@ class FrameCamera:
             raise SensorError(f"image_size must be two positive whole numbers (cols, rows); "
                               f"got {image_size!r}") from exc
         self.cols, self.rows = int(cols), int(rows)
-        self.heading = check_closed_interval(heading, "heading", -360.0, 360.0) % 360.0
-        self.pitch = check_closed_interval(pitch, "pitch", -90.0, 90.0)
-        self.roll = check_closed_interval(roll, "roll", -180.0, 180.0)
+        self.heading = check_number(heading, "heading", -360.0, 360.0, unit="deg", error=SensorError) % 360.0
+        self.pitch = check_number(pitch, "pitch", -90.0, 90.0, unit="deg", error=SensorError)
+        self.roll = check_number(roll, "roll", -180.0, 180.0, unit="deg", error=SensorError)
         if (focal_length is None) == (horizontal_fov is None):
             raise SensorError("give either focal_length with sensor_width [mm], or horizontal_fov "
                               f"[deg]; got focal_length={focal_length!r}, "
                               f"horizontal_fov={horizontal_fov!r}")
         if focal_length is not None:
-            f = check_positive(focal_length, "focal_length", "mm")
+            f = check_number(focal_length, "focal_length", 0.0, None, low_open=True, unit="mm", error=SensorError)
             if sensor_width is None:
                 raise SensorError("focal_length needs sensor_width [mm]")
-            w = check_positive(sensor_width, "sensor_width", "mm")
+            w = check_number(sensor_width, "sensor_width", 0.0, None, low_open=True, unit="mm", error=SensorError)
             self.fx = f * self.cols / w
-            self.fy = (f * self.rows / check_positive(sensor_height, "sensor_height", "mm")
+            self.fy = (f * self.rows / check_number(sensor_height, "sensor_height", 0.0, None, low_open=True, unit="mm", error=SensorError)
                        if sensor_height is not None else self.fx)
         else:
-            h = check_open_interval(horizontal_fov, "horizontal_fov", 0.0, 180.0)
+            h = check_number(horizontal_fov, "horizontal_fov", 0.0, 180.0, low_open=True, high_open=True, unit="deg", error=SensorError)
             self.fx = (self.cols / 2.0) / np.tan(np.radians(h) / 2.0)
             self.fy = ((self.rows / 2.0) / np.tan(np.radians(
-                check_open_interval(vertical_fov, "vertical_fov", 0.0, 180.0)) / 2.0)
+                check_number(vertical_fov, "vertical_fov", 0.0, 180.0, low_open=True, high_open=True, unit="deg", error=SensorError)) / 2.0)
                 if vertical_fov is not None else self.fx)
         self.axes = camera_axes(self.heading, self.pitch, self.roll)
         self._xyz = ecef_from_lonlat(self.lon, self.lat, self.altitude)
@@ -208,7 +209,7 @@ class FrameCamera:
         e, n = np.asarray(e, float), np.asarray(n, float)
         return e, n, np.full(e.shape, -self.altitude)
 
-    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, ...]:
+    def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """lon, lat of ray/water intersections (NaN where the ray misses)."""
         with np.errstate(divide="ignore", invalid="ignore"):
             t = np.where(du < 0.0, self.altitude / -du, np.nan)
@@ -255,7 +256,8 @@ class FrameCamera:
     def image_to_world(self, col: Any, row: Any) -> tuple[np.ndarray, np.ndarray]:
         """Longitude and latitude [°] where the rays through image points meet
         the water; NaN for rays at or above the horizon."""
-        return self._intersect(*self.pixel_rays(col, row))
+        dx, dy, dz = self.pixel_rays(col, row)
+        return self._intersect(dx, dy, dz)
 
     def in_image(self, col: Any, row: Any) -> np.ndarray:
         """True where fractional indices fall on the image."""

@@ -11,15 +11,14 @@ from __future__ import annotations
 import numpy as np
 
 from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
+    ns_time,
     GreatCircleTrack,
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_open_interval,
-    check_positive,
     ecef_from_lonlat,
     enu_basis,
     lonlat_from_ecef,
@@ -74,6 +73,8 @@ class LineScanner:
     """
 
     smooth = False
+    #: Scene-file key of the imaging time this sensor may fix itself.
+    time_key: str | None = "start_time"
 
     def __init__(self, *, start: tuple[float, float], end: tuple[float, float], altitude: float,
                  ground_speed: float, scan_half_angle: float,
@@ -85,15 +86,12 @@ class LineScanner:
             raise SensorError(f"start and end must be (lon, lat) pairs; got {start!r}, {end!r}") from exc
         for name, v, lim in (("start lon", lon0, 180), ("start lat", lat0, 90),
                              ("end lon", lon1, 180), ("end lat", lat1, 90)):
-            check_closed_interval(v, name, -lim, lim)
+            check_number(v, name, -lim, lim, unit="deg", error=SensorError)
         self.start, self.end = (lon0, lat0), (lon1, lat1)
-        self.altitude = check_positive(altitude, "altitude", "m")
-        self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
-        self.scan_half_angle = check_open_interval(scan_half_angle, "scan_half_angle", 0.0, 90.0)
-        self.start_time = None if start_time is None else np.datetime64(start_time, "ns")
-        #: The attribute holding an imaging time fixed by the sensor's own
-        #: table (None: it follows the scene time).
-        self.time_key = "start_time"
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+        self.ground_speed = check_number(ground_speed, "ground_speed", 0.0, None, low_open=True, unit="m/s", error=SensorError)
+        self.scan_half_angle = check_number(scan_half_angle, "scan_half_angle", 0.0, 90.0, low_open=True, high_open=True, unit="deg", error=SensorError)
+        self.start_time = None if start_time is None else ns_time(start_time)
         # Heading of the line at its start, from the two ECEF points.
         p0 = np.array(ecef_from_lonlat(lon0, lat0, 0.0))
         p1 = np.array(ecef_from_lonlat(lon1, lat1, 0.0))
@@ -105,6 +103,11 @@ class LineScanner:
         self.track = GreatCircleTrack(lon0, lat0, self.heading)
         along_end, _ = self.track.project(lon1, lat1)
         self.length = float(along_end) * self.track.radius
+
+    @property
+    def fixed_time(self) -> np.datetime64 | None:
+        """The ``start_time`` given in the sensor's table, or None (scene time)."""
+        return self.start_time
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles, imaging times and scan angles (``extras["scan_angle"]``)."""
@@ -124,7 +127,7 @@ class LineScanner:
         vz, va = np.where(seen, vz, np.nan), np.where(seen, va, np.nan)
         dt = np.where(seen, s / self.ground_speed, np.nan)
         ns = np.where(np.isfinite(dt), np.round(dt * 1e9), 0).astype("int64")
-        times = np.datetime64(t0, "ns") + ns.astype("timedelta64[ns]")
+        times = ns_time(t0) + ns.astype("timedelta64[ns]")
         times = np.where(seen, times, np.datetime64("NaT", "ns"))
         return ViewAngles(vz, va, times, {"scan_angle": np.where(seen, scan, np.nan),
                                           "slant_range": np.where(seen, dist, np.nan),
@@ -154,7 +157,8 @@ def _build(r: TableReader) -> LineScanner | None:
     speed = r.number("ground_speed", low=0.0, low_open=True, unit="m/s")
     half = r.number("scan_half_angle", low=0.0, high=90.0, low_open=True, high_open=True, unit="deg")
     t0 = r.time("start_time", default=None)
-    if r.problems or None in (start, end, alt, speed, half):
+    if (r.problems or start is None or end is None or alt is None or speed is None
+            or half is None):
         return None
-    return LineScanner(start=tuple(start), end=tuple(end), altitude=alt, ground_speed=speed,
+    return LineScanner(start=(start[0], start[1]), end=(end[0], end[1]), altitude=alt, ground_speed=speed,
                        scan_half_angle=half, start_time=t0)

@@ -11,13 +11,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_positive,
     ecef_from_lonlat,
     register_sensor_kind,
 )
@@ -56,11 +56,14 @@ class NadirPoint:
     """
 
     smooth = True
+    #: The sensor follows the scene time (see :class:`~glint.sensors.base.Sensor`).
+    time_key: str | None = None
+    fixed_time: np.datetime64 | None = None
 
     def __init__(self, *, lon: float, lat: float, altitude: float) -> None:
-        self.lon = check_closed_interval(lon, "lon", -180.0, 180.0)
-        self.lat = check_closed_interval(lat, "lat", -90.0, 90.0)
-        self.altitude = check_positive(altitude, "altitude", "m")
+        self.lon = check_number(lon, "lon", -180.0, 180.0, unit="deg", error=SensorError)
+        self.lat = check_number(lat, "lat", -90.0, 90.0, unit="deg", error=SensorError)
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
         self._xyz = ecef_from_lonlat(self.lon, self.lat, self.altitude)
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
@@ -88,6 +91,6 @@ def _build(r: TableReader) -> NadirPoint | None:
     else:
         centre = r.grid_centre("lon")
         lon, lat = centre if centre else (None, None)
-    if None in (alt, lon, lat):
+    if alt is None or lon is None or lat is None:
         return None
     return NadirPoint(lon=lon, lat=lat, altitude=alt)

@@ -9,20 +9,19 @@ points further along the track are imaged later.
 
 from __future__ import annotations
 
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 
 from glint.errors import SensorError
+from glint.validation import check_number
 from glint.sensors.base import (
+    ns_time,
     GreatCircleTrack,
     GroundPoints,
     TableReader,
     ViewAngles,
     angles_to_position,
-    check_closed_interval,
-    check_open_interval,
-    check_positive,
     ecef_from_lonlat,
     local_radius,
     lonlat_from_ecef,
@@ -43,7 +42,8 @@ GM_EARTH = 3.986004418e14
 #: Earth's nominal mean angular velocity [rad s⁻¹] (NIMA TR8350.2, 2000).
 EARTH_ROTATION_RATE = 7.292115e-5
 
-PASSES = ("ascending", "descending")
+PassDirection = Literal["ascending", "descending"]
+PASSES: tuple[PassDirection, ...] = ("ascending", "descending")
 
 
 def circular_orbit_ground_speed(altitude: float, radius: float) -> float:
@@ -73,8 +73,8 @@ def circular_orbit_ground_speed(altitude: float, radius: float) -> float:
     >>> round(circular_orbit_ground_speed(786e3, 6371e3), 0)
     6643.0
     """
-    h = check_positive(altitude, "altitude", "m")
-    r = check_positive(radius, "radius", "m")
+    h = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+    r = check_number(radius, "radius", 0.0, None, low_open=True, unit="m", error=SensorError)
     return float(np.sqrt(GM_EARTH / (r + h)) * r / (r + h))
 
 
@@ -118,7 +118,7 @@ def ground_track_heading(lat: float, inclination: float, pass_direction: str, *,
     ...                            altitude=786e3, radius=6378e3), 1)
     191.9
     """
-    i = check_open_interval(inclination, "inclination", 0.0, 180.0)
+    i = check_number(inclination, "inclination", 0.0, 180.0, low_open=True, high_open=True, unit="deg", error=SensorError)
     if pass_direction not in PASSES:
         raise SensorError(f"pass must be one of {PASSES!r}; got {pass_direction!r}")
     ratio = np.cos(np.radians(i)) / np.cos(np.radians(lat))
@@ -200,38 +200,37 @@ class PushBroom:
     """
 
     smooth = True
+    #: Scene-file key of the imaging time this sensor may fix itself.
+    time_key: str | None = "centre_time"
 
     def __init__(self, *, altitude: float, centre_lon: float, centre_lat: float,
                  heading: float | None = None, inclination: float | None = None,
                  pass_direction: Literal["ascending", "descending"] | None = None,
                  centre_time: np.datetime64 | None = None, ground_speed: float | None = None,
                  tilt: float = 0.0) -> None:
-        self.altitude = check_positive(altitude, "altitude", "m")
-        self.centre_lon = check_closed_interval(centre_lon, "centre_lon", -180.0, 180.0)
-        self.centre_lat = check_closed_interval(centre_lat, "centre_lat", -90.0, 90.0)
-        self.tilt = check_open_interval(tilt, "tilt", -60.0, 60.0)
+        self.altitude = check_number(altitude, "altitude", 0.0, None, low_open=True, unit="m", error=SensorError)
+        self.centre_lon = check_number(centre_lon, "centre_lon", -180.0, 180.0, unit="deg", error=SensorError)
+        self.centre_lat = check_number(centre_lat, "centre_lat", -90.0, 90.0, unit="deg", error=SensorError)
+        self.tilt = check_number(tilt, "tilt", -60.0, 60.0, low_open=True, high_open=True, unit="deg", error=SensorError)
         if (heading is None) == (inclination is None):
             raise SensorError("give either heading or inclination (with pass_direction), not "
                               f"both or neither; got heading={heading!r}, inclination={inclination!r}")
         # Radius across the track (for the tilt) and along it (distances).
-        r_mean = local_radius(self.centre_lat, 0.0) if heading is None else None
         if heading is None:
-            if pass_direction is None:
+            r_mean = local_radius(self.centre_lat, 0.0)
+            if inclination is None or pass_direction is None:
                 raise SensorError(f"inclination needs pass_direction, one of {PASSES!r}")
             heading = ground_track_heading(self.centre_lat, inclination, pass_direction,
                                            altitude=self.altitude, radius=r_mean)
-        self.heading = check_closed_interval(heading, "heading", -360.0, 360.0) % 360.0
+        self.heading = check_number(heading, "heading", -360.0, 360.0, unit="deg", error=SensorError) % 360.0
         self.inclination = inclination
         self.pass_direction = pass_direction
         self.radius_along = local_radius(self.centre_lat, self.heading)
         r_across = local_radius(self.centre_lat, self.heading + 90.0)
         if ground_speed is None:
             ground_speed = circular_orbit_ground_speed(self.altitude, self.radius_along)
-        self.ground_speed = check_positive(ground_speed, "ground_speed", "m/s")
-        self.centre_time = None if centre_time is None else np.datetime64(centre_time, "ns")
-        #: The attribute holding an imaging time fixed by the sensor's own
-        #: table (None: it follows the scene time).
-        self.time_key = "centre_time"
+        self.ground_speed = check_number(ground_speed, "ground_speed", 0.0, None, low_open=True, unit="m/s", error=SensorError)
+        self.centre_time = None if centre_time is None else ns_time(centre_time)
         eta = np.radians(self.tilt)
         k = (r_across + self.altitude) / r_across * np.sin(eta)
         if abs(k) >= 1.0:
@@ -261,12 +260,17 @@ class PushBroom:
         _, across = self.track.project(self.centre_lon, self.centre_lat)
         return float(np.copysign(180.0 - vz, -across))
 
+    @property
+    def fixed_time(self) -> np.datetime64 | None:
+        """The ``centre_time`` given in the sensor's table, or None (scene time)."""
+        return self.centre_time
+
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles and imaging times; ``time`` is used when no centre time was given."""
         t0 = self.centre_time if self.centre_time is not None else time
         if t0 is None:
             raise SensorError("push-broom sensor has no centre_time and no scene time was given")
-        t0 = np.datetime64(t0, "ns")
+        t0 = ns_time(t0)
         along, across = self.track.project(points.lon, points.lat)
         x, y, z = self.track.position(along, self.altitude)
         vz, va, d = angles_to_position(points.lon, points.lat, 0.0, x, y, z)
@@ -326,8 +330,8 @@ def _build(r: TableReader) -> PushBroom | None:
     tilt = r.number("tilt", default=0.0, low=-60.0, high=60.0, low_open=True, high_open=True,
                     unit="deg")
     ok &= tilt is not None
-    if not ok:
+    if not ok or alt is None or lon is None or lat is None or tilt is None:
         return None
     return PushBroom(altitude=alt, centre_lon=lon, centre_lat=lat, heading=heading,
-                     inclination=inclination, pass_direction=pdir, centre_time=t0,
+                     inclination=inclination, pass_direction=cast(PassDirection | None, pdir), centre_time=t0,
                      ground_speed=speed, tilt=tilt)

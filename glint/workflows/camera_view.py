@@ -92,7 +92,7 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
     geo = camera_image_geometry(cam, step=step)
     names = compute.check_variables(variables)
     params = compute.kernel_parameters(scene, t)
-    res = compute.compute_points(scene, t, geo.lon, geo.lat, geo.view_zenith, geo.view_azimuth, names, params)
+    res = compute.compute_points(scene, t, longitude=geo.lon, latitude=geo.lat, view_zenith=geo.view_zenith, view_azimuth=geo.view_azimuth, variables=names, params=params)
     rows = np.arange(0, cam.rows, step)
     cols = np.arange(0, cam.cols, step)
     data = {}
@@ -246,7 +246,7 @@ def _summary(ds, scene, t) -> dict:
     counts = np.bincount(cls[valid].ravel(), minlength=len(scene.classes.names))
     refl = ds.glint_reflectance.values
     cam = scene.sensor
-    sun = compute.sun_angles(scene, t, cam.lat, cam.lon)
+    sun = compute.sun_angles(scene, t, longitude=cam.lon, latitude=cam.lat)
     return {
         "time": t,
         "sun_zenith": float(sun.zenith),
