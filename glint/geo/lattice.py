@@ -33,6 +33,7 @@ if TYPE_CHECKING:
 __all__ = [
     "NODE_STEPS",
     "PLAN_MARGIN",
+    "MAX_NODES",
     "CHECK_CELLS",
     "LatticePlan",
     "plan_lattice",
@@ -52,6 +53,11 @@ NODE_STEPS: tuple[int, ...] = (64, 32, 16, 8, 4, 2)
 #: those checked (cell centres understate the largest error of smooth
 #: azimuth fields by up to about 10 %).
 PLAN_MARGIN = 0.8
+#: Largest lattice a plan tries [nodes]: the exact fields of every node are
+#: held in memory, so finer spacings on large grids would make memory grow
+#: with the grid (a lattice of a quarter of the pixels costs more than
+#: computing the pixels). Spacings giving more nodes are skipped.
+MAX_NODES = 1 << 20
 #: Rows (and columns) of lattice cells whose centres are checked: every cell
 #: of lattices up to this size, this many evenly spread cells on larger ones.
 CHECK_CELLS = 400
@@ -100,15 +106,16 @@ def node_axes(shape: tuple[int, int], step: int) -> tuple[FloatArray, FloatArray
     return _node_axis(shape[0], int(step)), _node_axis(shape[1], int(step))
 
 
-def lattices(grid: Grid, steps: Sequence[int] = NODE_STEPS
+def lattices(grid: Grid, steps: Sequence[int] = NODE_STEPS, *, max_nodes: int = MAX_NODES
              ) -> Iterator[tuple[int, FloatArray, FloatArray]]:
     """``(step, node_rows, node_cols)`` for each spacing in ``steps`` that
-    gives a lattice of at least 2 x 2 nodes (coarser ones are skipped)."""
+    gives a lattice of at least 2 x 2 nodes and at most ``max_nodes`` nodes
+    (coarser and finer ones are skipped)."""
     for step in steps:
         if step >= max(grid.shape):
             continue
         node_rows, node_cols = node_axes(grid.shape, step)
-        if len(node_rows) >= 2 and len(node_cols) >= 2:
+        if len(node_rows) >= 2 and len(node_cols) >= 2 and len(node_rows) * len(node_cols) <= max_nodes:
             yield step, node_rows, node_cols
 
 
@@ -157,7 +164,9 @@ def plan_lattice(
     farthest from the nodes) and, for each node returned by ``focus``, a
     dense set of points in the cells around it (where a field turns fastest).
     A spacing is kept when the largest error is at most
-    :data:`PLAN_MARGIN` ``* tolerance``.
+    :data:`PLAN_MARGIN` ``* tolerance``. Lattices of more than
+    :data:`MAX_NODES` nodes are not tried, so that planning costs bounded
+    memory whatever the grid size.
 
     Parameters
     ----------

@@ -58,6 +58,7 @@ from glint.sensors.base import (
     ecef_from_lonlat,
     register_sensor_kind,
 )
+from glint.sensors.kernels import view_from_position
 
 __all__ = ["FrameCamera", "CameraImage", "camera_image_geometry", "camera_axes"]
 
@@ -272,7 +273,7 @@ class FrameCamera:
         ``slant_range`` [m], ``unseen`` (points outside the image).
         """
         col, row = self.world_to_image(points.lon, points.lat)
-        vz, va, d = angles_to_position(points.lon, points.lat, 0.0, *self._xyz)
+        vz, va, d, _ = view_from_position(points.lon, points.lat, self._xyz)
         seen = self.in_image(col, row) & (vz < 90.0)
         return ViewAngles(np.where(seen, vz, np.nan), np.where(seen, va, np.nan), None,
                           {"image_col": col, "image_row": row,
