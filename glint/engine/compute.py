@@ -401,8 +401,14 @@ def _ground_fields(grid: Grid, rows: FloatArray, cols: FloatArray) -> dict[str, 
 
 def _points(grid: Grid, fields: Mapping[str, NDArray[np.floating]], rows: FloatArray,
             cols: FloatArray) -> GroundPoints:
-    """Ground points from ground-position fields on 2-D pixel indices."""
-    x, y = grid.xy(rows, cols)
+    """Ground points from ground-position fields on 2-D pixel indices (or on
+    read-only broadcasts of a column of rows and a row of columns, which
+    give broadcast x and y: the grid is north-up)."""
+    if rows.ndim == 2 and rows.strides[1] == 0 and cols.strides[0] == 0:
+        x = np.broadcast_to(grid.xy(np.zeros(cols.shape[1]), cols[0])[0][None, :], rows.shape)
+        y = np.broadcast_to(grid.xy(rows[:, 0], np.zeros(rows.shape[0]))[1][:, None], rows.shape)
+    else:
+        x, y = grid.xy(rows, cols)
     lon = np.asarray(fields["lon"], float)
     return GroundPoints(x=x, y=y, lon=np.where(lon >= 180.0, lon - 360.0, lon),
                         lat=np.asarray(fields["lat"], float), row=rows, col=cols,
@@ -524,7 +530,9 @@ def _compute_chunk(scene: Scene, plan: GeometryPlan, params: KernelParameters, r
             ang[name] = interpolate_field(vals, plan.node_rows, plan.node_cols, rows, cols,
                                           periodic=name.endswith("azimuth"), dtype=np.float32)
     if not plan.views_interpolated:
-        rr, cc = np.meshgrid(rows, cols, indexing="ij")
+        # Row and column indices (and from them x and y) as broadcasts: no
+        # per-pixel memory.
+        rr, cc = np.broadcast_arrays(rows[:, None], cols[None, :])
         if plan.ground is not None:
             ground = plan.ground
             fields = {k: ground.interpolate(k, rows, cols) for k in ("lon", "lat", "convergence")}

@@ -57,7 +57,7 @@ PLAN_MARGIN = 0.8
 #: held in memory, so finer spacings on large grids would make memory grow
 #: with the grid (a lattice of a quarter of the pixels costs more than
 #: computing the pixels). Spacings giving more nodes are skipped.
-MAX_NODES = 1 << 20
+MAX_NODES = 1 << 18
 #: Rows (and columns) of lattice cells whose centres are checked: every cell
 #: of lattices up to this size, this many evenly spread cells on larger ones.
 CHECK_CELLS = 400

@@ -8,8 +8,10 @@ into one pass per point with no temporaries. The numpy functions of
 :mod:`glint.sensors.base` stay the reference; the tests check these loops
 against them to 1e-9 degrees.
 
-Per point the fixed-position loop costs four sines/cosines (longitude,
-latitude), one square root for the ellipsoid radius and two ``atan2``
+Per point the fixed-position loop costs the sines and cosines of the
+longitude and latitude (from short series about a reference point of the
+batch: no library call within 0.05 rad of it), one square root for the
+ellipsoid radius and two ``atan2``
 (zenith from ``atan2(horizontal, up)``, which is accurate near the nadir
 where ``arccos`` is not, and azimuth). The line-scanner loop adds the
 along-track angle (one ``atan2``); the aircraft's geodetic position on its
@@ -36,17 +38,41 @@ _R2D = 180.0 / math.pi
 FloatArray = NDArray[np.float64]
 
 
+#: Largest offset from the reference angle [rad] for which sines and cosines
+#: come from the short series of :func:`_sincos_near` (truncation below 1e-20).
+_SERIES_LIMIT = 0.05
+_S3, _S5, _S7, _S9 = 1.0 / 6.0, 1.0 / 20.0, 1.0 / 42.0, 1.0 / 72.0
+_C4, _C6, _C8, _C10 = 1.0 / 12.0, 1.0 / 30.0, 1.0 / 56.0, 1.0 / 90.0
+
+
 @numba.njit(inline="always")
-def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float,
-              sz: float) -> tuple[float, float, float, float, float, float]:  # pragma: no cover
+def _sincos_near(a: float, a0: float, s0: float, c0: float) -> tuple[float, float]:  # pragma: no cover
+    """sin and cos of ``a`` [rad] from those of a nearby ``a0``:
+    ``sin(a0 + d) = sin a0 cos d + cos a0 sin d`` with the Taylor series of
+    ``sin d`` and ``cos d`` to d**9 and d**10 (truncation d**11 / 11! <
+    1e-20 for |d| <= 0.05); the library functions further away."""
+    d = a - a0
+    if abs(d) > _SERIES_LIMIT:
+        return math.sin(a), math.cos(a)
+    d2 = d * d
+    # Horner forms with the reciprocal factorial ratios as constants.
+    sd = d * (1.0 - d2 * _S3 * (1.0 - d2 * _S5 * (1.0 - d2 * _S7 * (1.0 - d2 * _S9))))
+    cd = 1.0 - d2 * 0.5 * (1.0 - d2 * _C4 * (1.0 - d2 * _C6 * (1.0 - d2 * _C8 * (1.0 - d2 * _C10))))
+    return s0 * cd + c0 * sd, c0 * cd - s0 * sd
+
+
+@numba.njit(inline="always")
+def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
+              ref: tuple[float, float, float, float, float, float]
+              ) -> tuple[float, float, float, float, float, float]:  # pragma: no cover
     """Zenith, azimuth [°] and distance of (sx, sy, sz) seen from the
-    ellipsoid point (lon, lat), plus the point's ECEF position."""
+    ellipsoid point (lon, lat), plus the point's ECEF position. ``ref`` holds
+    a reference longitude and latitude [rad] near the points with their
+    sines and cosines (see :func:`_sincos_near`)."""
     lam = lon_deg * _D2R
     phi = lat_deg * _D2R
-    sl = math.sin(lam)
-    cl = math.cos(lam)
-    sp = math.sin(phi)
-    cp = math.cos(phi)
+    sl, cl = _sincos_near(lam, ref[0], ref[1], ref[2])
+    sp, cp = _sincos_near(phi, ref[3], ref[4], ref[5])
     n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
     px = n * cp * cl
     py = n * cp * sl
@@ -68,28 +94,27 @@ def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float,
     return zen, azi, dist, px, py, pz
 
 
+def _reference(lon: FloatArray, lat: FloatArray) -> tuple[float, float, float, float, float, float]:
+    """A reference longitude and latitude [rad] (the middle point's) with
+    their sines and cosines."""
+    k = lon.size // 2
+    lam = math.radians(float(lon[k])) if np.isfinite(lon[k]) else 0.0
+    phi = math.radians(float(lat[k])) if np.isfinite(lat[k]) else 0.0
+    return (lam, math.sin(lam), math.cos(lam), phi, math.sin(phi), math.cos(phi))
+
+
 @numba.njit(parallel=True, cache=True)
 def _fixed_loop(lon: FloatArray, lat: FloatArray, sx: float, sy: float, sz: float,
-                horizon: bool, zen: FloatArray, azi: FloatArray,
-                dist: FloatArray) -> int:  # pragma: no cover - compiled
-    hidden = 0
+                horizon: bool, ref: tuple[float, float, float, float, float, float],
+                zen: FloatArray, azi: FloatArray, dist: FloatArray) -> None:  # pragma: no cover
     for i in numba.prange(lon.size):
-        if not (math.isfinite(lon[i]) and math.isfinite(lat[i])):
-            zen[i] = np.nan
-            azi[i] = np.nan
-            dist[i] = np.nan
-            hidden += 1
-            continue
-        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz)
-        if horizon and not z < 90.0:
-            zen[i] = np.nan
-            azi[i] = np.nan
-            hidden += 1
-        else:
-            zen[i] = z
-            azi[i] = a
+        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz, ref)
+        if horizon and not z < 90.0:  # also NaN coordinates
+            z = np.nan
+            a = np.nan
+        zen[i] = z
+        azi[i] = a
         dist[i] = d
-    return hidden
 
 
 def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tuple[float, float, float],
@@ -101,20 +126,22 @@ def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tu
     With ``horizon`` the points whose view zenith is 90° or more (and points
     with NaN coordinates) get NaN angles. The arrays keep the points' shape.
     """
-    lon = np.ascontiguousarray(longitude, dtype=np.float64)
-    lat = np.ascontiguousarray(latitude, dtype=np.float64)
-    lon, lat = np.broadcast_arrays(lon, lat)
+    lon, lat = np.broadcast_arrays(np.asarray(longitude, dtype=np.float64),
+                                   np.asarray(latitude, dtype=np.float64))
     shape = lon.shape
     lon, lat = np.ascontiguousarray(lon).ravel(), np.ascontiguousarray(lat).ravel()
     zen, azi, dist = np.empty(lon.size), np.empty(lon.size), np.empty(lon.size)
     sx, sy, sz = (float(v) for v in position)
-    hidden = _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), zen, azi, dist)
-    return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), int(hidden)
+    if lon.size:
+        _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _reference(lon, lat), zen, azi, dist)
+    hidden = int(np.count_nonzero(np.isnan(zen)))
+    return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), hidden
 
 
 @numba.njit(parallel=True, cache=True)
 def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, height: float,
-                radius: float, length: float, cos_half: float, zen: FloatArray, azi: FloatArray,
+                radius: float, length: float, cos_half: float,
+                ref: tuple[float, float, float, float, float, float], zen: FloatArray, azi: FloatArray,
                 dist: FloatArray, scan: FloatArray, along_m: FloatArray,
                 seen: NDArray[np.bool_]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(lon.size):
@@ -126,12 +153,8 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
             along_m[i] = np.nan
             seen[i] = False
             continue
-        lam = lon[i] * _D2R
-        phi = lat[i] * _D2R
-        sl = math.sin(lam)
-        cl = math.cos(lam)
-        sp = math.sin(phi)
-        cp = math.cos(phi)
+        sl, cl = _sincos_near(lon[i] * _D2R, ref[0], ref[1], ref[2])
+        sp, cp = _sincos_near(lat[i] * _D2R, ref[3], ref[4], ref[5])
         n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
         px = n * cp * cl
         py = n * cp * sl
@@ -214,18 +237,19 @@ def view_from_track(longitude: FloatArray, latitude: FloatArray, *, centre: Floa
         (NaN where not seen), ``along_track`` [m] (every finite point) and
         ``seen`` (bool), each of the points' shape.
     """
-    lon = np.ascontiguousarray(longitude, dtype=np.float64)
-    lat = np.ascontiguousarray(latitude, dtype=np.float64)
-    lon, lat = np.broadcast_arrays(lon, lat)
+    lon, lat = np.broadcast_arrays(np.asarray(longitude, dtype=np.float64),
+                                   np.asarray(latitude, dtype=np.float64))
     shape = lon.shape
     lon, lat = np.ascontiguousarray(lon).ravel(), np.ascontiguousarray(lat).ravel()
     out = {k: np.empty(lon.size) for k in ("view_zenith", "view_azimuth", "slant_range",
                                            "scan_angle", "along_track")}
     seen = np.empty(lon.size, dtype=np.bool_)
-    _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
-                np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
-                float(length), math.cos(math.radians(scan_half_angle)), out["view_zenith"],
-                out["view_azimuth"], out["slant_range"], out["scan_angle"], out["along_track"], seen)
+    if lon.size:
+        _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
+                    np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
+                    float(length), math.cos(math.radians(scan_half_angle)), _reference(lon, lat),
+                    out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
+                    out["along_track"], seen)
     res: dict[str, NDArray[np.generic]] = {k: v.reshape(shape) for k, v in out.items()}
     res["seen"] = seen.reshape(shape)
     return res
