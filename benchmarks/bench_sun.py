@@ -87,7 +87,7 @@ def main(argv: list[str] | None = None) -> int:
                    delta_t=delta_t)
 
     # Warm up numba (compilation or loading from the cache) before timing.
-    sun.solar_position(SURVEY_TIME, lat[:2, :2], lon[:2, :2], **options)
+    sun.solar_position(SURVEY_TIME, longitude=lon[:2, :2], latitude=lat[:2, :2], **options)
 
     rng = np.random.default_rng(args.seed)
     m = min(args.pvlib_points, n)
@@ -102,7 +102,7 @@ def main(argv: list[str] | None = None) -> int:
             how="numpy")
 
     def run_ours():
-        return sun.solar_position(SURVEY_TIME, lat, lon, **options)
+        return sun.solar_position(SURVEY_TIME, longitude=lon, latitude=lat, **options)
 
     # Interleave the two so that both see the same machine load; keep the
     # best time of each.
@@ -115,7 +115,7 @@ def main(argv: list[str] | None = None) -> int:
 
     # The numpy reference path of the same maths, for information.
     t_np, _ = best_of(1, lambda: sun._solar_position(
-        SURVEY_TIME, lat, lon, backend="numpy", **options))
+        SURVEY_TIME, longitude=lon, latitude=lat, backend="numpy", **options))
 
     ours_rate = n / t_ours / 1e6
     pv_rate = m / t_pv / 1e6

@@ -1,7 +1,7 @@
 """The one table of glint's per-pixel output variables.
 
 Names, units and CF metadata of every variable that :mod:`glint.engine.compute`
-produces and :mod:`glint.io.writers` writes. Writers and plots read this table; no
+produces and the writers of :mod:`glint.io` write. Writers and plots read this table; no
 other module spells out units or standard names.
 """
 
@@ -25,7 +25,7 @@ class Variable:
     dtype: str = "float32"
     standard_name: str | None = None
     comment: str = ""
-    extra: dict = field(default_factory=dict)
+    extra: dict[str, object] = field(default_factory=dict)
 
 
 _VARS = [

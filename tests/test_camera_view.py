@@ -5,7 +5,6 @@ grid-map path of the same scene."""
 from __future__ import annotations
 
 import json
-from pathlib import Path
 
 import netCDF4
 import numpy as np
@@ -15,30 +14,12 @@ from click.testing import CliRunner
 from glint.workflows import camera_view as cv
 from glint.cli.main import cli
 from glint.errors import SensorError
-from glint.scene import load_scene, scene_from_dict
 from glint.variables import CLASS_NODATA
 
-EXAMPLES = Path(__file__).resolve().parents[1] / "example_scenes"
-
-
-def _camera_scene(tmp_path, **camera):
-    sensor = {"kind": "frame-camera", "lon": -4.2, "lat": 50.3, "altitude": 80.0,
-              "horizontal_fov": 70.0, "vertical_fov": 50.0, "image_size": [160, 120],
-              "heading": 200.0, "pitch": -90.0, "roll": 0.0}
-    sensor.update(camera)
-    data = {
-        "scene": {"name": "Test frame", "time": "2026-06-14T11:00:00Z"},
-        "grid": {"west": -4.2015, "south": 50.299, "east": -4.1985, "north": 50.301, "resolution": 2.0},
-        "sensor": sensor,
-        "surface": {"wind_speed": 4.0, "wind_direction": 250.0},
-    }
-    return scene_from_dict(data, base_dir=tmp_path)
-
-
-def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path):
+def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path, camera_scene):
     """Plain geometry: looking straight down, the glint angle is the sun's
     zenith angle (the mirror direction of the sun is at the sun zenith)."""
-    scene = _camera_scene(tmp_path)
+    scene = camera_scene()
     ds = cv.camera_view(scene)
     assert ds.glint_angle.shape == (120, 160)
     r, c = 60, 80  # the image centre (pixel centres at whole numbers)
@@ -47,13 +28,13 @@ def test_nadir_image_centre_glint_angle_is_sun_zenith(tmp_path):
     assert ds.attrs["unseen_pixels"] == 0
 
 
-def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path):
+def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path, camera_scene):
     """Two paths to the same physics: the camera-image value at a pixel equals
     the kernel at that pixel's ground point with the sensor's view angles."""
     from glint.engine import compute
     from glint.sensors import GroundPoints
 
-    scene = _camera_scene(tmp_path, pitch=-70.0)
+    scene = camera_scene(pitch=-70.0)
     ds = cv.camera_view(scene, step=8)
     lon, lat = ds.lon.values, ds.lat.values
     pts = GroundPoints.from_lonlat(lon, lat, scene.grid)
@@ -66,19 +47,19 @@ def test_camera_view_matches_grid_map_at_same_ground_point(tmp_path):
     np.testing.assert_allclose(ds.glint_reflectance.values[ok], ref[ok], rtol=1e-3, atol=1e-6)
 
 
-def test_pixels_above_horizon_are_empty_and_counted(tmp_path):
-    scene = _camera_scene(tmp_path, pitch=-10.0)  # the top of the image shows sky
+def test_pixels_above_horizon_are_empty_and_counted(tmp_path, camera_scene):
+    scene = camera_scene(pitch=-10.0)  # the top of the image shows sky
     ds = cv.camera_view(scene, step=4)
     cls = ds.glint_class.values
     assert ds.attrs["unseen_pixels"] == int(np.sum(cls == CLASS_NODATA)) > 0
     assert np.all(np.isnan(ds.glint_reflectance.values[cls == CLASS_NODATA]))
     res = cv.write_camera_view(scene, tmp_path / "out", step=4)
-    assert "not written" in res.summaries[0]["footprint"]
+    assert "not written" in res.summaries[0].footprint
     assert not any(p.suffix == ".geojson" for p in res.files)
 
 
-def test_write_camera_view_files(tmp_path):
-    scene = load_scene(EXAMPLES / "drone_cove_survey.toml")
+def test_write_camera_view_files(tmp_path, example_scene):
+    scene = example_scene("drone_cove_survey.toml")
     res = cv.write_camera_view(scene, tmp_path, step=20)
     assert sorted(p.suffix for p in res.files) == [".geojson", ".nc", ".png"]
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")], "temporary files left"
@@ -92,17 +73,17 @@ def test_write_camera_view_files(tmp_path):
         cv.write_camera_view(scene, tmp_path, step=20)
 
 
-def test_non_camera_sensor_refused(tmp_path):
-    scene = load_scene(EXAMPLES / "open_sea_tile.toml")
+def test_non_camera_sensor_refused(tmp_path, example_scene, examples):
+    scene = example_scene("open_sea_tile.toml")
     with pytest.raises(SensorError, match="frame-camera"):
         cv.camera_view(scene)
-    r = CliRunner().invoke(cli, ["camera-view", str(EXAMPLES / "open_sea_tile.toml"), "-o", str(tmp_path)])
+    r = CliRunner().invoke(cli, ["camera-view", str(examples / "open_sea_tile.toml"), "-o", str(tmp_path)])
     assert r.exit_code == 2
     assert "Error:" in r.output and "frame-camera" in r.output
 
 
-def test_cli_camera_view_prints_cautions(tmp_path):
-    r = CliRunner().invoke(cli, ["camera-view", str(EXAMPLES / "drone_cove_survey.toml"),
+def test_cli_camera_view_prints_cautions(tmp_path, examples):
+    r = CliRunner().invoke(cli, ["camera-view", str(examples / "drone_cove_survey.toml"),
                                  "-o", str(tmp_path / "o"), "--step", "25"])
     assert r.exit_code == 0, r.output
     assert "never look at the sun" in r.output
@@ -111,9 +92,9 @@ def test_cli_camera_view_prints_cautions(tmp_path):
     assert "ground sampling distance" in r.output
 
 
-def test_footprint_ring_is_counter_clockwise(tmp_path):
+def test_footprint_ring_is_counter_clockwise(tmp_path, camera_scene):
     """RFC 7946: outer rings are counter-clockwise (positive shoelace area)."""
-    scene = _camera_scene(tmp_path, heading=37.0, pitch=-75.0)
+    scene = camera_scene(heading=37.0, pitch=-75.0)
     res = cv.write_camera_view(scene, tmp_path, step=20)
     gj = json.loads(next(p for p in res.files if p.suffix == ".geojson").read_text())
     ring = np.array(gj["features"][0]["geometry"]["coordinates"][0])
@@ -121,10 +102,10 @@ def test_footprint_ring_is_counter_clockwise(tmp_path):
     assert 0.5 * np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y) > 0
 
 
-def test_cli_heading_and_pitch_override(tmp_path):
+def test_cli_heading_and_pitch_override(tmp_path, examples):
     """Turning the drone camera away from the sun removes the severe class
     (the example's camera faces south-west with the sun in the south-east)."""
-    args = ["camera-view", str(EXAMPLES / "drone_cove_survey.toml"), "--step", "25"]
+    args = ["camera-view", str(examples / "drone_cove_survey.toml"), "--step", "25"]
     r1 = CliRunner().invoke(cli, args + ["-o", str(tmp_path / "a")])
     r2 = CliRunner().invoke(cli, args + ["-o", str(tmp_path / "b"), "--heading", "300"])
     assert r1.exit_code == 0 and r2.exit_code == 0, r1.output + r2.output
@@ -132,9 +113,68 @@ def test_cli_heading_and_pitch_override(tmp_path):
     assert "severe 0.0 %" in r2.output
 
 
-def test_camera_seeing_only_sky_is_an_error(tmp_path):
-    scene = load_scene(EXAMPLES / "drone_cove_survey.toml", **{"sensor.pitch": 30.0})
+def test_camera_seeing_only_sky_is_an_error(tmp_path, example_scene):
+    scene = example_scene("drone_cove_survey.toml", **{"sensor.pitch": 30.0})
     out = tmp_path / "out"
     with pytest.raises(SensorError, match="no pixel of the camera image sees the water"):
         cv.write_camera_view(scene, out, step=20)
     assert not out.exists()
+
+
+@pytest.mark.filterwarnings("ignore::DeprecationWarning")
+def test_camera_view_netcdf_passes_cf_checker(tmp_path, example_scene):
+    """The camera view goes through the one NetCDF writer and stays CF-1.11."""
+    from compliance_checker.runner import CheckSuite, ComplianceChecker
+
+    res = cv.write_camera_view(example_scene("drone_cove_survey.toml"), tmp_path / "o", step=20)
+    nc = next(p for p in res.files if p.suffix == ".nc")
+    CheckSuite.load_all_available_checkers()
+    report = tmp_path / "cf.json"
+    # IOOS compliance-checker, CF 1.11 suite (outside reference), strict criteria
+    passed, errors = ComplianceChecker.run_checker(
+        str(nc), ["cf:1.11"], verbose=0, criteria="strict",
+        output_filename=str(report), output_format="json")
+    result = json.loads(report.read_text())["cf:1.11"]
+    msgs = {level: [(i["name"], i["msgs"]) for i in result[level] if i["msgs"]]
+            for level in ("high_priorities", "medium_priorities")}
+    assert not errors
+    assert passed and not any(msgs.values()), msgs
+    with netCDF4.Dataset(nc) as f:
+        assert f.Conventions == "CF-1.11, ACDD-1.3"
+        assert f["glint_class"].flag_meanings.split() == ["negligible", "correctable", "severe"]
+        assert f.pixel_step == 20 and "crs" not in f.variables
+
+
+def test_summary_fields_and_mean_over_seen_pixels(camera_scene, tmp_path):
+    scene = camera_scene(pitch=-10.0)  # part of the image shows sky
+    res = cv.write_camera_view(scene, tmp_path / "o", step=4)
+    s = res.summary
+    ds = cv.camera_view(scene, step=4)
+    refl = ds.glint_reflectance.values
+    seen = np.isfinite(ds.lon.values)
+    assert s.unseen_pixels == int((~seen).sum()) > 0
+    assert s.mean_glint_reflectance == pytest.approx(float(np.nanmean(refl[seen])), rel=1e-6)
+    assert s.pixel_step == 4 and s.sun_at == "below the camera"
+
+
+def test_failure_in_second_time_leaves_no_file_of_the_first(example_scene, tmp_path, monkeypatch):
+    """One output set per run: the files of every time, or none."""
+    scene = example_scene("drone_cove_survey.toml",
+                          time=["2026-06-14T10:15:00Z", "2026-06-14T11:15:00Z"])
+    real = cv.camera_view
+    calls = []
+
+    def fail_second(*a, **k):
+        calls.append(1)
+        if len(calls) == 2:
+            raise RuntimeError("simulated failure")
+        return real(*a, **k)
+
+    monkeypatch.setattr(cv, "camera_view", fail_second)
+    out = tmp_path / "out"
+    with pytest.raises(RuntimeError, match="simulated"):
+        cv.write_camera_view(scene, out, step=25)
+    assert not out.exists()
+    monkeypatch.setattr(cv, "camera_view", real)
+    res = cv.write_camera_view(scene, out, step=25)  # no --overwrite needed
+    assert len(res.files) == 6 and len(res.summaries) == 2

@@ -3,7 +3,12 @@
 from __future__ import annotations
 
 import math
+import os
 import re
+import signal
+import subprocess
+import sys
+import time
 from pathlib import Path
 
 import numpy as np
@@ -12,33 +17,10 @@ from click.testing import CliRunner
 
 from glint.cli.main import cli, exit_code_for
 from glint.errors import InputFileError, OutputError, SceneError
+from glint.io.outputset import TEMP_PREFIX
 
 CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
            "never look at the sun or its reflection.")
-
-SCENE = """\
-[scene]
-name = "CLI test bay"
-time = 2026-06-14T10:30:00Z
-
-[grid]
-crs = "EPSG:32629"
-bounds = [500000.0, 4100000.0, 501000.0, 4100800.0]
-resolution = {resolution}
-
-[sensor]
-kind = "fixed-direction"
-view_zenith = 20.0
-view_azimuth = 280.0
-
-[surface]
-wind_speed = 5.0
-wind_direction = 250.0
-
-[outputs]
-formats = ["geotiff", "netcdf", "png"]
-"""
-
 
 @pytest.fixture
 def runner() -> CliRunner:
@@ -46,11 +28,9 @@ def runner() -> CliRunner:
 
 
 @pytest.fixture
-def scene_file(tmp_path: Path) -> Path:
-    path = tmp_path / "bay.toml"
+def scene_file(bay_scene_file) -> Path:
     # 1000 m x 800 m at 20 m: 40 x 50 pixels, quick to compute.
-    path.write_text(SCENE.format(resolution=20.0), encoding="utf-8")
-    return path
+    return bay_scene_file(20.0)
 
 
 def _number(text: str, label: str) -> float:
@@ -92,8 +72,8 @@ def test_exit_codes_by_error_kind():
 
 
 def test_sun_matches_pvlib(runner):
-    pvlib = pytest.importorskip("pvlib")
     import pandas as pd
+    import pvlib
 
     args = ["sun", "--lat", "37.01", "--lon", "-8.0", "--time", "2026-06-14T11:30:00+01:00"]
     result = runner.invoke(cli, args)
@@ -284,7 +264,42 @@ def test_map_bad_override_value(runner, tmp_path, scene_file):
     result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o"),
                                  "--wind-direction", "400"])
     assert result.exit_code == 2
-    assert "surface.wind_direction: must lie in [0, 360) deg; got 400.0" in result.stderr
+    # Named as typed on the command line, not by the scene key it replaces.
+    assert "--wind-direction: must lie in [0, 360) deg; got 400.0" in result.stderr
+    assert "surface.wind_direction" not in result.stderr
+
+
+@pytest.mark.parametrize("command, args, expected", [
+    ("map", ["--wind-speed", "-1"], "Error: --wind-speed: must be >= 0 m/s; got -1.0"),
+    ("map", ["--wind-direction", "-5"], "Error: --wind-direction: must lie in [0, 360) deg"),
+    ("camera-view", ["--pitch", "120"], "Error: --pitch: "),
+    ("camera-view", ["--heading", "-400"], "Error: --heading: "),
+])
+def test_bad_overrides_named_as_typed(runner, tmp_path, examples, command, args, expected):
+    scene = examples / ("drone_cove_survey.toml" if command == "camera-view"
+                        else "coastal_inlet_morning.toml")
+    result = runner.invoke(cli, [command, str(scene), "-o", str(tmp_path / "o"), *args])
+    assert result.exit_code == 2, result.output
+    assert result.stderr.startswith(expected), result.stderr
+    assert "surface." not in result.stderr and "sensor." not in result.stderr
+    assert not (tmp_path / "o").exists()
+
+
+def test_file_and_option_problems_each_named_by_their_source(runner, tmp_path, scene_file):
+    scene_file.write_text(scene_file.read_text().replace("view_zenith = 20.0", "view_zenith = 95.0"))
+    result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o"),
+                                 "--wind-speed", "-2"])
+    assert result.exit_code == 2
+    assert f"invalid scene {scene_file} (2 problems)" in result.stderr
+    assert "--wind-speed: must be >= 0 m/s; got -2.0" in result.stderr
+    assert "sensor.view_zenith" in result.stderr
+
+
+def test_bad_value_in_file_keeps_its_key_path(runner, tmp_path, scene_file):
+    scene_file.write_text(scene_file.read_text().replace("wind_speed = 5.0", "wind_speed = -3.0"))
+    result = runner.invoke(cli, ["map", str(scene_file), "-o", str(tmp_path / "o")])
+    assert result.exit_code == 2
+    assert "surface.wind_speed: must be >= 0 m/s; got -3.0" in result.stderr
 
 
 @pytest.mark.parametrize("option, value", [("--format", "jpeg"), ("--variable", "brightness")])
@@ -297,12 +312,11 @@ def test_map_bad_choice(runner, tmp_path, scene_file, option, value):
 
 
 # --------------------------------------------------------------------------
-# glint map: writing (needs glint.workflows.maps)
+# glint map: writing
 # --------------------------------------------------------------------------
 
 
 def _map(runner, scene_file, outdir, *extra):
-    pytest.importorskip("glint.workflows.maps")
     return runner.invoke(cli, ["map", str(scene_file), "-o", str(outdir), *extra])
 
 
@@ -358,7 +372,8 @@ def test_map_unwritable_output(runner, tmp_path, scene_file):
 
 
 def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
-    rasterio = pytest.importorskip("rasterio")
+    import rasterio
+
     outdir = tmp_path / "out"
     result = _map(runner, scene_file, outdir, "--format", "geotiff",
                   "--variable", "glint_reflectance", "--variable", "glint_angle",
@@ -375,3 +390,46 @@ def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
         assert src.shape == (40, 50)  # 800 m x 1000 m at 20 m (arithmetic)
         data = src.read()
     assert np.isfinite(data).all()
+
+
+# --------------------------------------------------------------------------
+# glint map stopped by a signal: the real command in a real process
+# --------------------------------------------------------------------------
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("sig, code", [(signal.SIGINT, 130), (signal.SIGTERM, 143)])
+def test_map_stopped_by_signal_leaves_nothing(tmp_path, inlet_scene_file, sig, code):
+    """Ctrl-C (SIGINT) and a scheduler's SIGTERM mid-write: no temporary, no
+    partial set, the shell's 128 + signal exit status (common practice), one
+    line of explanation, and a re-run that needs no --overwrite."""
+    root = Path(__file__).resolve().parents[1]
+    scene = inlet_scene_file(2.5)  # about 1400 x 1200 pixels: several seconds of work
+    out = tmp_path / "out"
+    cmd = [sys.executable, "-m", "glint", "map", str(scene), "-o", str(out)]
+    proc = subprocess.Popen(
+        cmd, cwd=root, stdout=subprocess.PIPE, stderr=subprocess.PIPE, text=True,
+        env={**os.environ, "PYTHONPATH": str(root)},
+        # a shell's background jobs ignore SIGINT; Ctrl-C reaches a foreground one
+        preexec_fn=lambda: signal.signal(signal.SIGINT, signal.SIG_DFL))
+    try:
+        deadline = time.monotonic() + 300  # generous: two shared cores
+        while not (out.is_dir() and any(p.name.startswith(TEMP_PREFIX) for p in out.iterdir())):
+            assert proc.poll() is None, proc.communicate()
+            assert time.monotonic() < deadline, "no temporary file appeared"
+            time.sleep(0.05)
+        proc.send_signal(sig)
+        stdout, stderr = proc.communicate(timeout=300)
+    finally:
+        if proc.poll() is None:
+            proc.kill()
+            proc.wait()
+    assert proc.returncode == code, stderr
+    lines = stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(f"Stopped by {sig.name}"), stderr
+    assert "Wrote" not in stdout
+    assert not out.exists() or list(out.iterdir()) == []
+    again = subprocess.run(cmd, cwd=root, capture_output=True, text=True, timeout=600,
+                           env={**os.environ, "PYTHONPATH": str(root)})
+    assert again.returncode == 0, again.stderr
+    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".tif", ".tif"]

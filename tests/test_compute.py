@@ -13,23 +13,7 @@ import pytest
 from glint.engine import compute
 from glint.errors import InputError
 from glint.physics.reflect import glint_reflectance
-from glint.scene import scene_from_dict
 from glint.variables import CLASS_NODATA
-
-
-def _scene(tmp_path, sensor=None, *, wind_direction=260.0, size=(2400.0, 2000.0), res=20.0, **extra):
-    left, bottom = 589000.0, 4095500.0
-    data = {
-        "scene": {"name": "Test cove", "time": "2026-06-14T10:30:00Z"},
-        "grid": {"bounds": [left, bottom, left + size[0], bottom + size[1]], "resolution": res,
-                 "crs": "EPSG:32629"},
-        "sensor": sensor or {"kind": "nadir-point", "altitude": 2500.0, "lon": -8.0, "lat": 37.02},
-        "surface": {"wind_speed": 5.0, "wind_direction": wind_direction},
-        "water": {"wavelength": 560.0},
-    }
-    for k, v in extra.items():
-        data.setdefault(k, {}).update(v)
-    return scene_from_dict(data, base_dir=tmp_path)
 
 
 def _exact_plan(scene):
@@ -44,10 +28,10 @@ def _exact_plan(scene):
         {"kind": "fixed-direction", "view_zenith": 25.0, "view_azimuth": 300.0},
     ],
 )
-def test_tie_point_interpolation_within_stated_bound(tmp_path, sensor):
+def test_tie_point_interpolation_within_stated_bound(tmp_path, sensor, cove_scene):
     """Interpolated sun and view angles stay within the scene's tolerance of
     the exact values at every pixel (the bound compute.py documents)."""
-    scene = _scene(tmp_path, sensor)
+    scene = cove_scene(sensor)
     plan = compute.plan_geometry(scene, scene.times[0])
     assert plan.step > 0, "a smooth scene should use tie points"
     params = compute.kernel_parameters(scene, scene.times[0])
@@ -76,12 +60,12 @@ def test_direction_error_against_vector_angle(rng):
     np.testing.assert_allclose(compute.direction_error(z1, a1, z2, a2), ref, atol=1e-6)
 
 
-def test_nadir_inside_grid_is_caught(tmp_path):
+def test_nadir_inside_grid_is_caught(tmp_path, cove_scene):
     """A satellite-like nadir point inside a large grid: the view azimuth is
     singular at the nadir, so the check must look there. Every pixel of the
     result stays within the tolerance of the exact angles."""
     far = {"kind": "nadir-point", "altitude": 700000.0, "lon": -7.9, "lat": 37.03}
-    scene = _scene(tmp_path, far, size=(8000.0, 6000.0), res=10.0)
+    scene = cove_scene(far, size=(8000.0, 6000.0), res=10.0)
     plan = compute.plan_geometry(scene, scene.times[0])
     params = compute.kernel_parameters(scene, scene.times[0])
     exact_plan = _exact_plan(scene)
@@ -97,12 +81,12 @@ def test_nadir_inside_grid_is_caught(tmp_path):
     assert worst <= scene.tie_point_tolerance + 3e-5
 
 
-def test_low_sensor_near_nadir_is_computed_at_every_pixel(tmp_path):
+def test_low_sensor_near_nadir_is_computed_at_every_pixel(tmp_path, cove_scene):
     """An aircraft 2.5 km up, above the tile: the view direction turns too fast
     near nadir for tie points to meet 1e-4 deg, so the view angles are
     evaluated at every pixel (from a checked lattice of ground positions),
     within the tolerance of the exact path everywhere."""
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     plan = compute.plan_geometry(scene, scene.times[0])
     assert not plan.views_interpolated
     assert plan.ground is not None and plan.ground.step > 0
@@ -116,21 +100,21 @@ def test_low_sensor_near_nadir_is_computed_at_every_pixel(tmp_path):
     assert np.nanmax(d) <= scene.tie_point_tolerance + 3e-5
 
 
-def test_tighter_tolerance_gives_finer_nodes(tmp_path):
+def test_tighter_tolerance_gives_finer_nodes(tmp_path, cove_scene):
     far = {"kind": "nadir-point", "altitude": 700000.0, "lon": -7.2, "lat": 37.5}
-    loose = _scene(tmp_path, far, scene={"tie_point_tolerance": 1e-2})
-    tight = _scene(tmp_path, far, scene={"tie_point_tolerance": 1e-8})
+    loose = cove_scene(far, scene={"tie_point_tolerance": 1e-2})
+    tight = cove_scene(far, scene={"tie_point_tolerance": 1e-8})
     p_loose = compute.plan_geometry(loose, loose.times[0])
     p_tight = compute.plan_geometry(tight, tight.times[0])
     assert p_tight.step == 0 or p_tight.step < p_loose.step
     assert p_tight.max_error <= 1e-8
 
 
-def test_sun_angles_match_pvlib_at_pixels(tmp_path):
+def test_sun_angles_match_pvlib_at_pixels(tmp_path, cove_scene):
     """Sun angles at a few pixels against pvlib's SPA (reference library)."""
     pvlib = pytest.importorskip("pvlib")
     pd = pytest.importorskip("pandas")
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     ds = compute.compute_dataset(scene, variables=["sun_zenith", "sun_azimuth"])
     g = scene.grid
     rows = np.array([0, g.height // 2, g.height - 1])
@@ -147,10 +131,10 @@ def test_sun_angles_match_pvlib_at_pixels(tmp_path):
         assert abs(float(ds.sun_azimuth[r, c]) - ref["azimuth"].iloc[0]) < 2e-3
 
 
-def test_reflectance_matches_physics_functions(tmp_path):
+def test_reflectance_matches_physics_functions(tmp_path, cove_scene):
     """The pipeline gives what the reference physics functions give for each
     pixel's own angles (wiring, wind-height conversion and kernel together)."""
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     ds = compute.compute_dataset(scene)
     p = compute.kernel_parameters(scene, scene.times[0])
     from glint.physics.surface import SLOPE_MODEL_WIND_HEIGHT, wind_speed_at_height
@@ -159,16 +143,16 @@ def test_reflectance_matches_physics_functions(tmp_path):
     ref = glint_reflectance(
         ds.sun_zenith.values.astype(float), ds.sun_azimuth.values.astype(float),
         ds.view_zenith.values.astype(float), ds.view_azimuth.values.astype(float),
-        w, wind_direction=260.0, refractive_index=p.refractive_index,
+        w, wind_direction=260.0, refractive_index=p.refractive_index, wind_height=12.5,
     )
     np.testing.assert_allclose(ds.glint_reflectance.values, ref, rtol=2e-4, atol=1e-7)
 
 
-def test_nadir_sensor_glint_angle_zero_at_mirror_point(tmp_path):
+def test_nadir_sensor_glint_angle_zero_at_mirror_point(tmp_path, cove_scene):
     """Plain geometry: a sensor at height h above point N sees the sun's
     mirror image at the ground point h*tan(sun_zenith) from N towards the
     sun. The glint angle there is ~0 and is the minimum of the map."""
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     ds = compute.compute_dataset(scene, variables=["glint_angle", "sun_zenith", "sun_azimuth"])
     g = scene.grid
     from pyproj import Geod
@@ -186,8 +170,8 @@ def test_nadir_sensor_glint_angle_zero_at_mirror_point(tmp_path):
     assert ga[rmin, cmin] < 0.5  # within half a degree: 20 m pixels at 2.9 km range
 
 
-def test_classes_follow_thresholds(tmp_path):
-    scene = _scene(tmp_path)
+def test_classes_follow_thresholds(tmp_path, cove_scene):
+    scene = cove_scene()
     ds = compute.compute_dataset(scene, variables=["glint_radiance", "glint_class"])
     rad = ds.glint_radiance.values
     cls = ds.glint_class.values
@@ -199,11 +183,11 @@ def test_classes_follow_thresholds(tmp_path):
                                   [CLASS_NODATA, 0, 1, 2])
 
 
-def test_lazy_dataset_is_lazy_and_equal(tmp_path):
+def test_lazy_dataset_is_lazy_and_equal(tmp_path, cove_scene):
     da = pytest.importorskip("dask.array")
     import dask
 
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     eager = compute.compute_dataset(scene)
 
     def _refuse(*a, **k):
@@ -217,8 +201,8 @@ def test_lazy_dataset_is_lazy_and_equal(tmp_path):
             np.testing.assert_array_equal(lazy[v].values, eager[v].values)
 
 
-def test_iter_blocks_streams_whole_grid(tmp_path):
-    scene = _scene(tmp_path)
+def test_iter_blocks_streams_whole_grid(tmp_path, cove_scene):
+    scene = cove_scene()
     seen = 0
     for rs, block in compute.iter_blocks(scene, block_rows=32, variables=["glint_fraction"]):
         assert block["glint_fraction"].shape == (rs.stop - rs.start, scene.grid.width)
@@ -227,17 +211,17 @@ def test_iter_blocks_streams_whole_grid(tmp_path):
     assert seen == scene.grid.height
 
 
-def test_unknown_variable_named(tmp_path):
-    scene = _scene(tmp_path)
+def test_unknown_variable_named(tmp_path, cove_scene):
+    scene = cove_scene()
     with pytest.raises(InputError, match="glint_brightness"):
         compute.compute_dataset(scene, variables=["glint_brightness"])
 
 
 @pytest.mark.filterwarnings("ignore::glint.errors.ValidityWarning")
-def test_calm_water_matches_reference_function(tmp_path):
+def test_calm_water_matches_reference_function(tmp_path, cove_scene):
     """Zero wind: the kernel path agrees with glint.physics.reflect's reference
     function, which floors the slope variances (calm water stays finite)."""
-    scene = _scene(tmp_path, {"kind": "fixed-direction", "view_zenith": 20.0, "view_azimuth": 300.0},
+    scene = cove_scene({"kind": "fixed-direction", "view_zenith": 20.0, "view_azimuth": 300.0},
                    surface={"wind_speed": 0.0})
     ds = compute.compute_dataset(scene)
     ref = glint_reflectance(
@@ -249,22 +233,22 @@ def test_calm_water_matches_reference_function(tmp_path):
     np.testing.assert_allclose(ds.glint_reflectance.values, ref, rtol=2e-4, atol=1e-30)
 
 
-def test_sun_below_horizon_gives_zero_glint(tmp_path):
-    scene = _scene(tmp_path, scene={"time": "2026-06-14T23:30:00Z"})
+def test_sun_below_horizon_gives_zero_glint(tmp_path, cove_scene):
+    scene = cove_scene(scene={"time": "2026-06-14T23:30:00Z"})
     ds = compute.compute_dataset(scene, variables=["sun_zenith", "glint_reflectance", "glint_fraction"])
     assert float(ds.sun_zenith.min()) > 90
     assert float(ds.glint_reflectance.max()) == 0.0
     assert float(ds.glint_fraction.max()) == 0.0
 
 
-def test_frame_camera_pixels_outside_image_are_nan(tmp_path):
+def test_frame_camera_pixels_outside_image_are_nan(tmp_path, cove_scene):
     sensor = {
         "kind": "frame-camera", "lon": -7.99746, "lat": 37.00278, "altitude": 120.0,
         "heading": 0.0, "pitch": -90.0, "roll": 0.0,
         "horizontal_fov": 60.0, "vertical_fov": 45.0, "image_size": [400, 300],
     }
     # The camera hangs 120 m above the centre of a 400 m x 300 m grid.
-    scene = _scene(tmp_path, sensor, size=(400.0, 300.0), res=2.0)
+    scene = cove_scene(sensor, size=(400.0, 300.0), res=2.0)
     ds = compute.compute_dataset(scene, variables=["view_zenith", "glint_reflectance"])
     vz = ds.view_zenith.values
     assert np.isnan(vz).any() and np.isfinite(vz).any()
@@ -275,13 +259,13 @@ def test_frame_camera_pixels_outside_image_are_nan(tmp_path):
     assert np.nanmax(vz) <= half_diag + 0.1
 
 
-def test_per_pixel_times_rounded_to_ms_stay_exact(tmp_path, rng):
+def test_per_pixel_times_rounded_to_ms_stay_exact(tmp_path, rng, cove_scene):
     """Line-scanner style per-pixel times: rounding to whole milliseconds
     moves the sun by less than 5e-6 deg (it moves < 0.0042 deg/s; common
     practice: 360 deg per sidereal day)."""
     from glint.physics.sun import solar_position
 
-    scene = _scene(tmp_path)
+    scene = cove_scene()
     base = np.datetime64("2026-06-14T10:30:00", "ns")
     t = base + rng.integers(0, 60_000_000_000, 2000).astype("timedelta64[ns]")
     lat = np.full(t.shape, 37.0)

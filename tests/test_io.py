@@ -1,4 +1,4 @@
-"""Tests of glint.io.writers: files read back by rasterio/GDAL, netCDF4, xarray,
+"""Tests of glint.io's writers (GeoTIFF, NetCDF) inside output sets: files read back by rasterio/GDAL, netCDF4, xarray,
 rio-cogeo and the IOOS compliance-checker."""
 
 from __future__ import annotations
@@ -17,14 +17,10 @@ from pyproj import CRS, Transformer
 
 from glint.errors import InputError, InputFileError, OutputError
 from glint.geo.grid import Grid
-from glint.io.writers import (
-    GeoTiffWriter,
-    NetCDFWriter,
-    atomic_path,
-    check_free_space,
-    write_dataset_geotiff,
-    write_dataset_netcdf,
-)
+from glint.io.geotiff import GeoTiffWriter, write_dataset_geotiff
+from glint.io.naming import check_free_space
+from glint.io.netcdf import NetCDFWriter, write_dataset_netcdf
+from glint.io.outputset import OutputSet
 from glint.geo.readers import check_matches_grid, open_band
 from glint.variables import CLASS_NODATA, VARIABLES
 
@@ -53,13 +49,15 @@ def data(grid, rng) -> dict[str, np.ndarray]:
 
 
 def _write_tif(path, grid, names, data, block=256, **kw):
-    with GeoTiffWriter(path, grid, names, **kw) as w:
+    with OutputSet(path.parent, {"f": path.name}) as out:
+        w = out.writer("f", lambda p: GeoTiffWriter(p, grid, names, **kw))
         for b in grid.blocks(block):
             w.write(b.rows, {n: data[n][b.rows] for n in names})
 
 
 def _write_nc(path, grid, names, data, **kw):
-    with NetCDFWriter(path, grid, names, **kw) as w:
+    with OutputSet(path.parent, {"f": path.name}) as out:
+        w = out.writer("f", lambda p: NetCDFWriter(p, grid, names, **kw))
         for b in grid.blocks(512):
             w.write(b.rows, [data[n][b.rows] for n in names])
 
@@ -155,41 +153,64 @@ def test_geotiff_bad_options(tmp_path, small_grid, variables, kwargs, fragment):
 
 def test_write_checks_shapes_and_names(tmp_path, small_grid):
     with pytest.raises(InputError, match=r"\(3, 49\)"):
-        with GeoTiffWriter(tmp_path / "x.tif", small_grid, ["sun_zenith"]) as w:
+        with OutputSet(tmp_path, {"f": "x.tif"}) as out:
+            w = out.writer("f", lambda p: GeoTiffWriter(p, small_grid, ["sun_zenith"]))
             w.write(slice(0, 3), {"sun_zenith": np.zeros((3, 49), "f4")})
     with pytest.raises(InputError, match="glint_angle"):
-        with NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_angle"]) as w:
+        with OutputSet(tmp_path, {"f": "x.nc"}) as out:
+            w = out.writer("f", lambda p: NetCDFWriter(p, small_grid, ["glint_angle"]))
             w.write(slice(0, 3), {"sun_zenith": np.zeros((3, 50), "f4")})
     with pytest.raises(InputError, match="outside"):
-        with NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_angle"]) as w:
+        with OutputSet(tmp_path, {"f": "x.nc"}) as out:
+            w = out.writer("f", lambda p: NetCDFWriter(p, small_grid, ["glint_angle"]))
             w.write((30, 45), [np.zeros((15, 50), "f4")])
     assert os.listdir(tmp_path) == []
 
 
-# ------------------------------------------------------------- atomic writes
+# ----------------------------------------------- writers inside output sets
+def _writer(kind, small_grid, **kw):
+    if kind == "nc":
+        return lambda p: NetCDFWriter(p, small_grid, ["glint_fraction"], **kw)
+    return lambda p: GeoTiffWriter(p, small_grid, ["glint_fraction"],
+                                   **({"cog": True} if kind == "cog" else {}), **kw)
+
+
 @pytest.mark.parametrize("kind", ["tif", "cog", "nc"])
 def test_exception_inside_with_leaves_nothing(tmp_path, small_grid, kind):
-    path = tmp_path / ("out.nc" if kind == "nc" else "out.tif")
-    cls = NetCDFWriter if kind == "nc" else GeoTiffWriter
-    kw = {"cog": True} if kind == "cog" else {}
+    name = "out.nc" if kind == "nc" else "out.tif"
     with pytest.raises(RuntimeError, match="boom"):
-        with cls(path, small_grid, ["glint_fraction"], **kw) as w:
+        with OutputSet(tmp_path, {"f": name}) as out:
+            w = out.writer("f", _writer(kind, small_grid))
             w.write(slice(0, 10), [np.ones((10, 50), "f4")])
             assert len(os.listdir(tmp_path)) >= 1  # the temporary file exists
             raise RuntimeError("boom")
     assert os.listdir(tmp_path) == []
 
 
+@pytest.mark.parametrize("kind", ["tif", "cog", "nc"])
+def test_writer_writes_only_its_temporary_path(tmp_path, small_grid, kind):
+    # The writer touches nothing but the path the set gives it (and, for a
+    # COG, a working copy beside it that is gone at close).
+    path = tmp_path / "w.bin"
+    w = _writer(kind, small_grid)(path)
+    w.write(slice(0, 40), [np.ones((40, 50), "f4")])
+    w.close()
+    assert os.listdir(tmp_path) == ["w.bin"]
+
+
 def test_existing_output_needs_overwrite(tmp_path, small_grid):
     path = tmp_path / "out.tif"
     path.write_bytes(b"old")
     with pytest.raises(OutputError) as info:
-        GeoTiffWriter(path, small_grid, ["glint_fraction"]).open()
+        with OutputSet(tmp_path, {"f": "out.tif"}) as out:
+            out.writer("f", _writer("tif", small_grid))
     assert "out.tif" in str(info.value) and "--overwrite" in str(info.value)
     assert path.read_bytes() == b"old" and os.listdir(tmp_path) == ["out.tif"]
     with pytest.raises(OutputError, match="overwrite"):
-        NetCDFWriter(path, small_grid, ["glint_fraction"]).open()
-    with GeoTiffWriter(path, small_grid, ["glint_fraction"], overwrite=True) as w:
+        with OutputSet(tmp_path, {"f": "out.tif"}) as out:
+            out.writer("f", _writer("nc", small_grid))
+    with OutputSet(tmp_path, {"f": "out.tif"}, overwrite=True) as out:
+        w = out.writer("f", _writer("tif", small_grid))
         w.write(slice(0, 40), [np.ones((40, 50), "f4")])
     with rasterio.open(path) as src:
         assert src.read(1).min() == 1.0
@@ -198,12 +219,13 @@ def test_existing_output_needs_overwrite(tmp_path, small_grid):
 
 def test_missing_or_unusable_directory(tmp_path, small_grid):
     with pytest.raises(OutputError, match="does not exist") as info:
-        GeoTiffWriter(tmp_path / "nodir" / "out.tif", small_grid, ["glint_fraction"]).open()
+        with OutputSet(tmp_path / "nodir" / "sub", {"f": "out.tif"}) as out:
+            out.writer("f", _writer("tif", small_grid))
     assert "nodir" in str(info.value)
     blocker = tmp_path / "file"
     blocker.write_text("x")
     with pytest.raises(OutputError, match="not a directory"):
-        with atomic_path(blocker / "out.nc", overwrite=False):
+        with OutputSet(blocker, {"f": "out.nc"}):
             pass
 
 
@@ -215,31 +237,27 @@ def test_unwritable_directory(tmp_path, small_grid):
     ro.chmod(0o500)
     try:
         with pytest.raises(OutputError, match="not writable"):
-            GeoTiffWriter(ro / "out.tif", small_grid, ["glint_fraction"]).open()
+            with OutputSet(ro, {"f": "out.tif"}) as out:
+                out.writer("f", _writer("tif", small_grid))
     finally:
         ro.chmod(0o700)
 
 
 def test_unwritable_directory_reported(tmp_path, small_grid, monkeypatch):
     # Works as root too: the probe file cannot be created.
-    import glint.io.writers
+    from glint.io import outputset
 
     def refuse(*args, **kwargs):
         raise PermissionError(13, "Permission denied")
 
-    monkeypatch.setattr(glint.io.writers, "open", refuse, raising=False)
+    monkeypatch.setattr(outputset, "open", refuse, raising=False)
     with pytest.raises(OutputError, match="not writable") as info:
-        NetCDFWriter(tmp_path / "out.nc", small_grid, ["glint_fraction"]).open()
+        with OutputSet(tmp_path, {"f": "out.nc"}) as out:
+            out.writer("f", _writer("nc", small_grid))
     assert str(tmp_path) in str(info.value)
 
 
-def test_atomic_path_and_free_space(tmp_path):
-    final = tmp_path / "a.txt"
-    with atomic_path(final, overwrite=False) as tmp:
-        assert tmp.parent == tmp_path and tmp.suffix == ".txt" and tmp.name.startswith(".a.")
-        tmp.write_text("ok")
-        assert not final.exists()
-    assert final.read_text() == "ok" and os.listdir(tmp_path) == ["a.txt"]
+def test_free_space(tmp_path):
     with pytest.raises(OutputError, match="MB needed"):
         check_free_space(tmp_path, 10**18)
 
@@ -355,7 +373,6 @@ def test_netcdf_passes_cf_checker(tmp_path, small_grid, rng, geographic):
 
 # ---------------------------------------------------------- xarray datasets
 def test_write_dataset_helpers_with_dask(tmp_path, grid, data):
-    pytest.importorskip("dask")
     ds = xr.Dataset(
         {n: (("y", "x"), data[n]) for n in FLOATS + ["glint_class"]},
         coords={"time": np.datetime64("2026-06-01T10:30", "ns")},
@@ -372,6 +389,9 @@ def test_write_dataset_helpers_with_dask(tmp_path, grid, data):
     with pytest.raises(InputError, match="glint_angle"):
         write_dataset_geotiff(ds, tmp_path / "b.tif", grid, variables=["glint_angle"])
     assert sorted(os.listdir(tmp_path)) == ["a.nc", "a.tif"]
+    with pytest.raises(OutputError, match="exists"):
+        write_dataset_geotiff(ds, tmp_path / "a.tif", grid)
+    write_dataset_geotiff(ds, tmp_path / "a.tif", grid, overwrite=True)
 
 
 # ------------------------------------------------------------------ readers
@@ -405,7 +425,8 @@ def test_open_band_errors(tmp_path, small_grid):
     with pytest.raises(InputFileError, match="missing.tif"):
         open_band(tmp_path / "missing.tif")
     path = tmp_path / "one.tif"
-    with GeoTiffWriter(path, small_grid, ["glint_fraction"]) as w:
+    with OutputSet(tmp_path, {"f": "one.tif"}) as out:
+        w = out.writer("f", _writer("tif", small_grid))
         w.write(slice(0, 40), [np.zeros((40, 50), "f4")])
     with pytest.raises(InputFileError, match="band 2"):
         open_band(path, band=2)

@@ -60,7 +60,7 @@ def random_angles(rng, n, dtype=np.float64):
 
 
 def kernel_params(wind_speed, wind_direction=None, distribution="gaussian", shadowing=False):
-    c, u = surface.slope_variances(wind_speed)
+    c, u = surface.slope_variances(wind_speed, wind_height=12.5)
     kw = {
         "refractive_index": N_WATER,
         "sigma2_crosswind": float(c),
@@ -72,7 +72,7 @@ def kernel_params(wind_speed, wind_direction=None, distribution="gaussian", shad
     }
     if distribution == "gram-charlier":
         kw["gram_charlier"] = {
-            k: float(v) for k, v in surface.gram_charlier_coefficients(wind_speed).items()
+            k: float(v) for k, v in surface.gram_charlier_coefficients(wind_speed, wind_height=12.5).items()
         }
     return kw
 
@@ -94,15 +94,15 @@ def test_specular_point_closed_form(sun_zenith, wind_speed):
     cos_s = math.cos(math.radians(sun_zenith))
     rho = fresnel_snell(sun_zenith, N_WATER)
     expected = rho / (4 * cos_s * math.pi * s2)
-    got = glint_radiance(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed)
+    got = glint_radiance(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed, wind_height=12.5)
     np.testing.assert_allclose(got, expected, rtol=1e-10)
     np.testing.assert_allclose(
-        glint_reflectance(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed),
+        glint_reflectance(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed, wind_height=12.5),
         math.pi * expected / cos_s, rtol=1e-10,
     )
     # glint fraction at the specular point: Omega / (4 cos theta_v pi sigma^2)
     np.testing.assert_allclose(
-        glint_fraction(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed),
+        glint_fraction(sun_zenith, 100.0, sun_zenith, 280.0, wind_speed, wind_height=12.5),
         OMEGA_SUN / (4 * cos_s * math.pi * s2), rtol=1e-10,
     )
 
@@ -116,7 +116,7 @@ def test_off_specular_closed_form():
     b = math.radians(20.0)
     p = math.exp(-math.tan(b) ** 2 / s2) / (math.pi * s2)
     expected = fresnel_snell(20.0, N_WATER) * p / (4 * math.cos(b) ** 4)
-    np.testing.assert_allclose(glint_radiance(40.0, 10.0, 0.0, 0.0, w), expected, rtol=1e-10)
+    np.testing.assert_allclose(glint_radiance(40.0, 10.0, 0.0, 0.0, w, wind_height=12.5), expected, rtol=1e-10)
 
 
 @pytest.mark.parametrize("sun_zenith,rtol", [(0.0, 0.005), (20.0, 0.01), (40.0, 0.03)])
@@ -132,7 +132,7 @@ def test_energy_conservation_flat_sea(sun_zenith, rtol):
     tv = np.linspace(0.0, 89.999, 901)
     ph = np.linspace(0.0, 360.0, 1441)
     t_grid, p_grid = np.meshgrid(tv, ph, indexing="ij")
-    radiance = glint_radiance(sun_zenith, 0.0, t_grid, p_grid, w)
+    radiance = glint_radiance(sun_zenith, 0.0, t_grid, p_grid, w, wind_height=12.5)
     f = radiance * np.cos(np.radians(t_grid)) * np.sin(np.radians(t_grid))
     exitance = simpson(simpson(f, x=np.radians(ph), axis=1), x=np.radians(tv))
     albedo = exitance / math.cos(math.radians(sun_zenith))
@@ -145,8 +145,8 @@ def test_fraction_is_solid_angle_times_radiance_over_rho(rng):
     # independent Snell/Fresnel helper at the facet's reflection angle.
     sz, sa, vz, va = random_angles(rng, 2000)
     w, wd = 8.0, 135.0
-    rad = glint_radiance(sz, sa, vz, va, w, wind_direction=wd)
-    frac = glint_fraction(sz, sa, vz, va, w, wind_direction=wd, sun_solid_angle=OMEGA_SUN)
+    rad = glint_radiance(sz, sa, vz, va, w, wind_direction=wd, wind_height=12.5)
+    frac = glint_fraction(sz, sa, vz, va, w, wind_direction=wd, sun_solid_angle=OMEGA_SUN, wind_height=12.5)
     rho = fresnel_snell(facet_geometry(sz, sa, vz, va).reflection_angle, N_WATER)
     np.testing.assert_allclose(frac, OMEGA_SUN * rad / rho, rtol=1e-10, atol=1e-300)
 
@@ -154,8 +154,8 @@ def test_fraction_is_solid_angle_times_radiance_over_rho(rng):
 def test_fraction_default_solid_angle_is_one_au():
     # Default sun solid angle: the sun's disc at 1 AU, about 6.8e-5 sr
     # (IAU 2015 nominal solar radius and the AU).
-    a = glint_fraction(30.0, 0.0, 28.0, 175.0, 5.0)
-    b = glint_fraction(30.0, 0.0, 28.0, 175.0, 5.0, sun_solid_angle=6.794e-5)
+    a = glint_fraction(30.0, 0.0, 28.0, 175.0, 5.0, wind_height=12.5)
+    b = glint_fraction(30.0, 0.0, 28.0, 175.0, 5.0, sun_solid_angle=6.794e-5, wind_height=12.5)
     np.testing.assert_allclose(a, b, rtol=1e-3)
 
 
@@ -167,11 +167,11 @@ def test_reciprocity(rng, wind_direction, distribution):
     # swap places.
     sz, sa, vz, va = random_angles(rng, 1000)
     kw = {"wind_direction": wind_direction, "distribution": distribution}
-    a = glint_reflectance(sz, sa, vz, va, 9.0, **kw)
-    b = glint_reflectance(vz, va, sz, sa, 9.0, **kw)
+    a = glint_reflectance(sz, sa, vz, va, 9.0, **kw, wind_height=12.5)
+    b = glint_reflectance(vz, va, sz, sa, 9.0, **kw, wind_height=12.5)
     np.testing.assert_allclose(a, b, rtol=1e-9, atol=1e-300)
-    a = glint_reflectance(sz, sa, vz, va, 9.0, shadowing=True, **kw)
-    b = glint_reflectance(vz, va, sz, sa, 9.0, shadowing=True, **kw)
+    a = glint_reflectance(sz, sa, vz, va, 9.0, shadowing=True, **kw, wind_height=12.5)
+    b = glint_reflectance(vz, va, sz, sa, 9.0, shadowing=True, **kw, wind_height=12.5)
     np.testing.assert_allclose(a, b, rtol=1e-9, atol=1e-300)
 
 
@@ -181,10 +181,10 @@ def test_azimuthal_maximum_at_specular_azimuth():
     # facet is flat, and falls off symmetrically (mirror symmetry about the
     # sun's vertical plane, common practice).
     az = np.arange(0.0, 360.0, 0.5)
-    r = glint_reflectance(35.0, 70.0, 35.0, az, 6.0)
+    r = glint_reflectance(35.0, 70.0, 35.0, az, 6.0, wind_height=12.5)
     assert az[np.argmax(r)] == 250.0
     side = (az > 250) & (az < 280)
-    mirrored = glint_reflectance(35.0, 70.0, 35.0, 500.0 - az[side], 6.0)
+    mirrored = glint_reflectance(35.0, 70.0, 35.0, 500.0 - az[side], 6.0, wind_height=12.5)
     np.testing.assert_allclose(r[side], mirrored, rtol=1e-10)
     assert np.all(np.diff(r[side]) < 0)
 
@@ -197,7 +197,7 @@ def test_maximum_near_specular_low_sun_zenith(sun_zenith):
     # 1/cos(theta_v) and rho grow towards the horizon (the off-specular peak
     # of Torrance and Sparrow 1967, JOSA 57(9), 1105, from memory).
     tv = np.arange(0.0, 80.0, 0.05)
-    r = glint_reflectance(sun_zenith, 0.0, tv, 180.0, 3.0)
+    r = glint_reflectance(sun_zenith, 0.0, tv, 180.0, 3.0, wind_height=12.5)
     assert abs(tv[np.argmax(r)] - sun_zenith) < 2.0
 
 
@@ -206,7 +206,7 @@ def test_off_specular_peak_at_low_sun():
     # the horizon (off-specular peak, Torrance and Sparrow 1967, from
     # memory); this documents that the maximum is not at the specular point.
     tv = np.arange(0.0, 89.0, 0.05)
-    r = glint_reflectance(70.0, 0.0, tv, 180.0, 12.0)
+    r = glint_reflectance(70.0, 0.0, tv, 180.0, 12.0, wind_height=12.5)
     assert tv[np.argmax(r)] > 71.0
 
 
@@ -217,8 +217,8 @@ def test_gram_charlier_specular_ratio():
     # anisotropic Gaussian with the same variances is the baseline.
     w, wd = 8.0, 300.0
     ratio = glint_radiance(30.0, 0.0, 30.0, 180.0, w, wind_direction=wd,
-                           distribution="gram-charlier") / glint_radiance(
-        30.0, 0.0, 30.0, 180.0, w, wind_direction=wd)
+                           distribution="gram-charlier", wind_height=12.5) / glint_radiance(
+        30.0, 0.0, 30.0, 180.0, w, wind_direction=wd, wind_height=12.5)
     np.testing.assert_allclose(ratio, 1 + 0.40 / 8 + 0.12 / 4 + 0.23 / 8, rtol=1e-12)
 
 
@@ -228,8 +228,8 @@ def test_anisotropic_pdf_stretched_along_wind():
     # one that needs the same tilt across it. Sun at zenith, sensor 30 deg
     # off nadir: the facet tilts 15 deg towards the sensor's azimuth.
     w, wd = 10.0, 0.0  # wind from north: upwind axis north-south
-    along = glint_radiance(0.0, 0.0, 30.0, 0.0, w, wind_direction=wd)
-    across = glint_radiance(0.0, 0.0, 30.0, 90.0, w, wind_direction=wd)
+    along = glint_radiance(0.0, 0.0, 30.0, 0.0, w, wind_direction=wd, wind_height=12.5)
+    across = glint_radiance(0.0, 0.0, 30.0, 90.0, w, wind_direction=wd, wind_height=12.5)
     c, u = 0.003 + 1.92e-3 * w, 3.16e-3 * w  # Cox and Munk (1954), clean surface
     t2 = math.tan(math.radians(15.0)) ** 2
     np.testing.assert_allclose(along / across, math.exp(-0.5 * t2 / u + 0.5 * t2 / c), rtol=1e-10)
@@ -238,10 +238,10 @@ def test_anisotropic_pdf_stretched_along_wind():
 def test_shadowing_reduces_grazing_glint():
     # Smith (1967): shadowing is negligible near nadir and removes light at
     # grazing angles.
-    near = glint_radiance(20.0, 0.0, 20.0, 180.0, 10.0, shadowing=True) / glint_radiance(
-        20.0, 0.0, 20.0, 180.0, 10.0)
-    grazing = glint_radiance(85.0, 0.0, 85.0, 180.0, 10.0, shadowing=True) / glint_radiance(
-        85.0, 0.0, 85.0, 180.0, 10.0)
+    near = glint_radiance(20.0, 0.0, 20.0, 180.0, 10.0, shadowing=True, wind_height=12.5) / glint_radiance(
+        20.0, 0.0, 20.0, 180.0, 10.0, wind_height=12.5)
+    grazing = glint_radiance(85.0, 0.0, 85.0, 180.0, 10.0, shadowing=True, wind_height=12.5) / glint_radiance(
+        85.0, 0.0, 85.0, 180.0, 10.0, wind_height=12.5)
     assert 0.99 < near <= 1.0
     assert grazing < 0.8
 
@@ -262,19 +262,19 @@ def test_horizon_rules():
 
 def test_reference_errors():
     with pytest.raises(InputError, match=r"model must be one of .*'cox-munk'.*got 'cm'"):
-        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, model="cm")
+        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, model="cm", wind_height=12.5)
     with pytest.raises(InputError, match=r"distribution must be one of .*got 'normal'"):
-        glint_reflectance(30.0, 0.0, 30.0, 180.0, 5.0, distribution="normal")
+        glint_reflectance(30.0, 0.0, 30.0, 180.0, 5.0, distribution="normal", wind_height=12.5)
     with pytest.raises(InputError, match="needs a wind_direction"):
-        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, distribution="gram-charlier")
+        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, distribution="gram-charlier", wind_height=12.5)
     with pytest.raises(InputError, match=r"shadowing must be True or False; got 'yes'"):
-        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, shadowing="yes")
+        glint_radiance(30.0, 0.0, 30.0, 180.0, 5.0, shadowing="yes", wind_height=12.5)
     with pytest.raises(InputError, match=r"sun_solid_angle must be finite, > 0.*got -1.0"):
-        glint_fraction(30.0, 0.0, 30.0, 180.0, 5.0, sun_solid_angle=-1.0)
+        glint_fraction(30.0, 0.0, 30.0, 180.0, 5.0, sun_solid_angle=-1.0, wind_height=12.5)
     with pytest.raises(InputError, match=r"sun_zenith must lie in \[0, 180\]"):
-        glint_radiance(-3.0, 0.0, 30.0, 180.0, 5.0)
+        glint_radiance(-3.0, 0.0, 30.0, 180.0, 5.0, wind_height=12.5)
     with pytest.raises(InputError, match="wind_speed"):
-        glint_radiance(30.0, 0.0, 30.0, 180.0, -1.0)
+        glint_radiance(30.0, 0.0, 30.0, 180.0, -1.0, wind_height=12.5)
 
 
 # ---------------------------------------------------------------------------
@@ -296,9 +296,9 @@ def _reference(angles, wind_speed, wind_direction, distribution, shadowing):
           "shadowing": shadowing}
     return {
         "glint_angle": facet_geometry(*a64).glint_angle,
-        "glint_radiance": glint_radiance(*a64, wind_speed, refractive_index=N_WATER, **kw),
-        "glint_reflectance": glint_reflectance(*a64, wind_speed, refractive_index=N_WATER, **kw),
-        "glint_fraction": glint_fraction(*a64, wind_speed, sun_solid_angle=OMEGA_SUN, **kw),
+        "glint_radiance": glint_radiance(*a64, wind_speed, refractive_index=N_WATER, **kw, wind_height=12.5),
+        "glint_reflectance": glint_reflectance(*a64, wind_speed, refractive_index=N_WATER, **kw, wind_height=12.5),
+        "glint_fraction": glint_fraction(*a64, wind_speed, sun_solid_angle=OMEGA_SUN, **kw, wind_height=12.5),
     }
 
 
@@ -378,7 +378,7 @@ def test_kernel_fraction_clipped_at_one():
 def test_kernel_broadcasts_mixed_shapes():
     vz = np.linspace(0.0, 60.0, 7)
     res = glint_kernel(30.0, 0.0, vz, 180.0, **kernel_params(5.0))
-    ref = glint_radiance(30.0, 0.0, vz, 180.0, 5.0, refractive_index=N_WATER)
+    ref = glint_radiance(30.0, 0.0, vz, 180.0, 5.0, refractive_index=N_WATER, wind_height=12.5)
     _assert_close(res["glint_radiance"], ref, 1e-6)
 
 
@@ -472,7 +472,7 @@ def test_property_valid_inputs_finite_nonnegative(sz, sa, vz, va, w, wd):
         assert np.all(np.isfinite(res[key])) and np.all(res[key] >= 0)
     assert np.all(res["glint_fraction"] <= 1.0)
     assert np.all(res["glint_angle"] <= 180.0)
-    ref = glint_radiance(sz, sa, vz, va, w, wind_direction=wd)
+    ref = glint_radiance(sz, sa, vz, va, w, wind_direction=wd, wind_height=12.5)
     assert np.isfinite(ref) and ref >= 0
 
 

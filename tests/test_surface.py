@@ -35,7 +35,7 @@ WINDS = np.array([1.0, 3.0, 5.0, 7.5, 10.0, 14.0])
 def test_cox_munk_clean_laws():
     # Cox and Munk (1954): sigma_c^2 = 0.003 + 1.92e-3 W, sigma_u^2 = 3.16e-3 W,
     # total 0.003 + 5.12e-3 W, W at 12.5 m.
-    c, u = slope_variances(WINDS)
+    c, u = slope_variances(WINDS, wind_height=12.5)
     np.testing.assert_allclose(c, 0.003 + 1.92e-3 * WINDS, rtol=1e-12)
     np.testing.assert_allclose(u, 3.16e-3 * WINDS, rtol=1e-12)
     # The published total 0.003 + 5.12e-3 W is a separate fit; the components sum to
@@ -45,7 +45,7 @@ def test_cox_munk_clean_laws():
 
 def test_cox_munk_slick_laws():
     # Cox and Munk (1954), slick surface: 0.003 + 0.84e-3 W, 0.005 + 0.78e-3 W.
-    c, u = slope_variances(WINDS, model="cox-munk-slick")
+    c, u = slope_variances(WINDS, model="cox-munk-slick", wind_height=12.5)
     np.testing.assert_allclose(c, 0.003 + 0.84e-3 * WINDS, rtol=1e-12)
     np.testing.assert_allclose(u, 0.005 + 0.78e-3 * WINDS, rtol=1e-12)
 
@@ -53,7 +53,7 @@ def test_cox_munk_slick_laws():
 def test_cox_munk_total_at_14():
     # Cox and Munk (1954) abstract: total mss reaches about (tan 16°)^2 at 14 m/s;
     # the linear fit gives 0.0747 against 0.0822, so a loose tolerance.
-    c, u = slope_variances(14.0)
+    c, u = slope_variances(14.0, wind_height=12.5)
     assert c + u == pytest.approx(math.tan(math.radians(16.0)) ** 2, rel=0.12)
 
 
@@ -74,7 +74,7 @@ def test_wu_regimes():
     # Split in Cox and Munk's clean-surface ratio 3.16 / 1.92.
     np.testing.assert_allclose(u / c, 3.16 / 1.92, rtol=1e-12)
     # Wu's total lies near Cox and Munk's at strong wind (independent data sets).
-    cm = sum(slope_variances(14.0))
+    cm = sum(slope_variances(14.0, wind_height=12.5))
     assert sum(slope_variances(14.0 * 0.98, model="wu")) == pytest.approx(cm, rel=0.1)
 
 
@@ -91,14 +91,14 @@ def test_wu_continuous_and_monotonic():
 
 def test_variances_all_models_positive():
     for model in SLOPE_MODELS:
-        c, u = slope_variances(WINDS, model=model)
+        c, u = slope_variances(WINDS, model=model, wind_height=SLOPE_MODEL_WIND_HEIGHT[model])
         assert np.all(c > 0) and np.all(u > 0)
         assert np.all(np.diff(c + u) > 0)
         assert model in SLOPE_MODEL_WIND_HEIGHT
 
 
 def test_variances_nan_and_shape():
-    c, u = slope_variances(np.array([[5.0, np.nan]]))
+    c, u = slope_variances(np.array([[5.0, np.nan]]), wind_height=12.5)
     assert c.shape == (1, 2) and np.isnan(c[0, 1]) and np.isnan(u[0, 1])
     assert np.isfinite(c[0, 0])
     c, u = slope_variances(np.array([np.nan, 5.0]), model="wu")
@@ -114,10 +114,10 @@ def test_wind_heights():
 def test_variance_validity_warning():
     # Cox and Munk (1954) abstract: winds 1-14 m/s.
     with pytest.warns(ValidityWarning, match=r"wind_speed .*=20 lies outside \[1, 14\]"):
-        slope_variances(20.0)
+        slope_variances(20.0, wind_height=12.5)
     with warnings.catch_warnings():
         warnings.simplefilter("error")
-        slope_variances(np.array([1.0, 14.0]))
+        slope_variances(np.array([1.0, 14.0]), wind_height=12.5)
 
 
 @pytest.mark.parametrize("func", [slope_variances, gram_charlier_coefficients, whitecap_fraction])
@@ -128,7 +128,7 @@ def test_negative_wind(func):
 
 def test_bad_model():
     with pytest.raises(InputError, match="'elfouhaily'"):
-        slope_variances(5.0, model="elfouhaily")
+        slope_variances(5.0, model="elfouhaily", wind_height=12.5)
 
 
 # ------------------------------------------------------- Gram-Charlier
@@ -137,7 +137,7 @@ def test_bad_model():
 def test_gram_charlier_coefficients():
     # Cox and Munk (1954), clean surface: c21 = 0.01 - 0.0086 W, c03 = 0.04 - 0.033 W,
     # c40 = 0.40, c22 = 0.12, c04 = 0.23.
-    c = gram_charlier_coefficients(WINDS)
+    c = gram_charlier_coefficients(WINDS, wind_height=12.5)
     np.testing.assert_allclose(c["c21"], 0.01 - 0.0086 * WINDS, rtol=1e-12)
     np.testing.assert_allclose(c["c03"], 0.04 - 0.033 * WINDS, rtol=1e-12)
     np.testing.assert_allclose(c["c40"], 0.40)
@@ -169,11 +169,11 @@ def test_building_blocks_compile_with_numba():
 def _grid_moments(wind, wind_direction, distribution="gaussian", model="cox-munk", n=801):
     """Integral, means and second moments of slope_pdf by Simpson's rule
     (scipy.integrate.simpson) over +-10 sigma."""
-    c, u = slope_variances(wind, model=model)
+    c, u = slope_variances(wind, model=model, wind_height=SLOPE_MODEL_WIND_HEIGHT[model])
     half = 10.0 * math.sqrt(max(c, u))
     z = np.linspace(-half, half, n)
     zx, zy = np.meshgrid(z, z, indexing="xy")
-    p = slope_pdf(zx, zy, wind, wind_direction=wind_direction, model=model, distribution=distribution)
+    p = slope_pdf(zx, zy, wind, wind_direction=wind_direction, model=model, distribution=distribution, wind_height=SLOPE_MODEL_WIND_HEIGHT[model])
 
     def integral(f):
         return integrate.simpson(integrate.simpson(f, x=z, axis=1), x=z)
@@ -194,7 +194,7 @@ def _grid_moments(wind, wind_direction, distribution="gaussian", model="cox-munk
 def test_isotropic_pdf_integrates(wind):
     # Normalisation and variance: each axis carries (sigma_c^2 + sigma_u^2)/2 (Cox and Munk 1954).
     m = _grid_moments(wind, None)
-    c, u = slope_variances(wind)
+    c, u = slope_variances(wind, wind_height=12.5)
     assert m["total"] == pytest.approx(1.0, abs=1e-6)
     assert m["xx"] == pytest.approx(0.5 * (c + u), rel=1e-5)
     assert m["yy"] == pytest.approx(0.5 * (c + u), rel=1e-5)
@@ -203,9 +203,9 @@ def test_isotropic_pdf_integrates(wind):
 
 def test_isotropic_pdf_dblquad():
     # Independent quadrature: scipy.integrate.dblquad over +-10 sigma.
-    c, u = slope_variances(6.0)
+    c, u = slope_variances(6.0, wind_height=12.5)
     h = 10 * math.sqrt(0.5 * (c + u))
-    val, _ = integrate.dblquad(lambda y, x: float(slope_pdf(x, y, 6.0)), -h, h, -h, h, epsabs=1e-9)
+    val, _ = integrate.dblquad(lambda y, x: float(slope_pdf(x, y, 6.0, wind_height=12.5)), -h, h, -h, h, epsabs=1e-9)
     assert val == pytest.approx(1.0, abs=1e-6)
 
 
@@ -216,7 +216,7 @@ def test_anisotropic_pdf_moments(direction):
     # E[zx zy] = (u - c) sin phi cos phi (rotation of a covariance matrix).
     wind = 10.0
     m = _grid_moments(wind, direction)
-    c, u = slope_variances(wind)
+    c, u = slope_variances(wind, wind_height=12.5)
     s, co = math.sin(math.radians(direction)), math.cos(math.radians(direction))
     assert m["total"] == pytest.approx(1.0, abs=1e-6)
     assert m["xx"] == pytest.approx(c * co**2 + u * s**2, rel=1e-5)
@@ -229,7 +229,7 @@ def test_gram_charlier_integrates(wind):
     # The Gram-Charlier series of Cox and Munk (1954) keeps unit mass, zero mean and the
     # Gaussian variances (Hermite orthogonality); clipping the negative tails adds < 1e-3.
     m = _grid_moments(wind, 0.0, distribution="gram-charlier")
-    c, u = slope_variances(wind)
+    c, u = slope_variances(wind, wind_height=12.5)
     assert m["total"] == pytest.approx(1.0, abs=1e-3)
     assert m["xx"] == pytest.approx(c, rel=2e-2)
     assert m["yy"] == pytest.approx(u, rel=2e-2)
@@ -249,7 +249,7 @@ def test_gram_charlier_mode_points_downwind():
     assert abs(zx_mode) < 0.01
     # Same statement for a wind from the east (blows west): ascent towards west, dz/dx < 0.
     p2 = slope_pdf(z[:, None] * 0 + z[None, :], 0.0 * z[:, None], 14.0, wind_direction=90.0,
-                   distribution="gram-charlier")[0]
+                   distribution="gram-charlier", wind_height=12.5)[0]
     assert z[np.argmax(p2)] < 0
 
 
@@ -259,29 +259,29 @@ def test_rotation():
     rng = np.random.default_rng(7)
     zx, zy = rng.normal(0, 0.2, (2, 200))
     for dist in ("gaussian", "gram-charlier"):
-        a = slope_pdf(zx, zy, 9.0, wind_direction=0.0, distribution=dist)
-        b = slope_pdf(zy, -zx, 9.0, wind_direction=90.0, distribution=dist)
+        a = slope_pdf(zx, zy, 9.0, wind_direction=0.0, distribution=dist, wind_height=12.5)
+        b = slope_pdf(zy, -zx, 9.0, wind_direction=90.0, distribution=dist, wind_height=12.5)
         np.testing.assert_allclose(a, b, rtol=1e-12, atol=1e-300)
 
 
 def test_wind_from_and_to_differ_only_in_skew():
     # Gaussian: wind from north and from south give the same pdf (even in slopes);
     # Gram-Charlier: the skewness flips.
-    g0 = slope_pdf(0.0, -0.1, 12.0, wind_direction=0.0)
-    g180 = slope_pdf(0.0, -0.1, 12.0, wind_direction=180.0)
+    g0 = slope_pdf(0.0, -0.1, 12.0, wind_direction=0.0, wind_height=12.5)
+    g180 = slope_pdf(0.0, -0.1, 12.0, wind_direction=180.0, wind_height=12.5)
     assert g0 == pytest.approx(g180)
-    s0 = slope_pdf(0.0, -0.1, 12.0, wind_direction=0.0, distribution="gram-charlier")
-    s180 = slope_pdf(0.0, 0.1, 12.0, wind_direction=180.0, distribution="gram-charlier")
+    s0 = slope_pdf(0.0, -0.1, 12.0, wind_direction=0.0, distribution="gram-charlier", wind_height=12.5)
+    s180 = slope_pdf(0.0, 0.1, 12.0, wind_direction=180.0, distribution="gram-charlier", wind_height=12.5)
     assert s0 == pytest.approx(s180)
-    assert s0 != pytest.approx(slope_pdf(0.0, 0.1, 12.0, wind_direction=0.0, distribution="gram-charlier"))
+    assert s0 != pytest.approx(slope_pdf(0.0, 0.1, 12.0, wind_direction=0.0, distribution="gram-charlier", wind_height=12.5))
 
 
 def test_pdf_nan_flows():
-    p = slope_pdf(np.array([0.0, np.nan, 0.1]), 0.0, np.array([[5.0], [np.nan]]), wind_direction=45.0)
+    p = slope_pdf(np.array([0.0, np.nan, 0.1]), 0.0, np.array([[5.0], [np.nan]]), wind_direction=45.0, wind_height=12.5)
     assert p.shape == (2, 3)
     assert np.isnan(p[1]).all() and np.isnan(p[0, 1])
     assert np.isfinite(p[0, [0, 2]]).all()
-    assert np.isnan(slope_pdf(0.0, 0.0, 5.0, wind_direction=np.nan))
+    assert np.isnan(slope_pdf(0.0, 0.0, 5.0, wind_direction=np.nan, wind_height=12.5))
 
 
 def test_pdf_calm_water_finite():
@@ -290,26 +290,26 @@ def test_pdf_calm_water_finite():
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)
         for dist in ("gaussian", "gram-charlier"):
-            p = slope_pdf(np.array([0.0, 1e-3, 0.05]), 0.0, 0.0, wind_direction=90.0, distribution=dist)
+            p = slope_pdf(np.array([0.0, 1e-3, 0.05]), 0.0, 0.0, wind_direction=90.0, distribution=dist, wind_height=12.5)
             assert np.all(np.isfinite(p)) and p[0] > p[1] > p[2] >= 0
         zx = np.linspace(-0.02, 0.02, 2001)
         zy = np.linspace(-0.6, 0.6, 601)
-        p = slope_pdf(zx[None, :], zy[:, None], 0.0, wind_direction=90.0)
+        p = slope_pdf(zx[None, :], zy[:, None], 0.0, wind_direction=90.0, wind_height=12.5)
     total = integrate.simpson(integrate.simpson(p, x=zx, axis=1), x=zy)
     assert total == pytest.approx(1.0, abs=1e-4)
 
 
 def test_pdf_bad_input():
     with pytest.raises(InputError, match="None"):
-        slope_pdf(0.0, 0.0, 5.0, distribution="gram-charlier")
+        slope_pdf(0.0, 0.0, 5.0, distribution="gram-charlier", wind_height=12.5)
     with pytest.raises(InputError, match="'lognormal'"):
-        slope_pdf(0.0, 0.0, 5.0, distribution="lognormal")
+        slope_pdf(0.0, 0.0, 5.0, distribution="lognormal", wind_height=12.5)
     with pytest.raises(InputError, match="'wave'"):
-        slope_pdf(0.0, 0.0, 5.0, model="wave")
+        slope_pdf(0.0, 0.0, 5.0, model="wave", wind_height=12.5)
     with pytest.raises(InputError, match="-1.0"):
-        slope_pdf(0.0, 0.0, -1.0)
+        slope_pdf(0.0, 0.0, -1.0, wind_height=12.5)
     with pytest.raises(InputError, match="shapes|broadcast"):
-        slope_pdf(np.zeros(3), np.zeros(4), 5.0)
+        slope_pdf(np.zeros(3), np.zeros(4), 5.0, wind_height=12.5)
 
 
 slopes = st.floats(-3.0, 3.0, allow_nan=False)
@@ -328,7 +328,7 @@ def test_pdf_properties(zx, zy, wind, direction, model, gc):
     dist = "gram-charlier" if (gc and direction is not None) else "gaussian"
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", ValidityWarning)
-        p = slope_pdf(np.array(zx), zy, wind, wind_direction=direction, model=model, distribution=dist)
+        p = slope_pdf(np.array(zx), zy, wind, wind_direction=direction, model=model, distribution=dist, wind_height=SLOPE_MODEL_WIND_HEIGHT[model])
     assert p.shape == (len(zx),)
     assert np.all(np.isfinite(p)) and np.all(p >= 0)
 

@@ -6,7 +6,6 @@ from pathlib import Path
 
 import click
 
-from glint.cli.map import format_summary
 from glint.io.quicklook import CAUTION
 from glint.cli.options import (
     condition_options,
@@ -15,6 +14,7 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
+from glint.cli.report import echo_files, echo_summaries
 
 __all__ = ["camera_view_command", "FLIGHT_CAUTION"]
 
@@ -62,12 +62,8 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
     scene = load_with_overrides(scene_file, wind_speed, wind_direction, times,
                                 **{"sensor.heading": heading, "sensor.pitch": pitch})
     result = write_camera_view(scene, outdir, step=step, overwrite=overwrite)
-    click.echo(f"Wrote {len(result.files)} file(s):")
-    for path in result.files:
-        click.echo(f"  {path}")
-    for summary in result.summaries:
-        for line in format_summary(summary):
-            click.echo(line)
+    echo_files(result.files)
+    echo_summaries(result.summaries)
     click.echo(CAUTION)
     from glint.sensors import FixedCamera
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import logging
 import warnings
+from typing import Any, TextIO
 
 import click
 
@@ -35,7 +36,8 @@ def exit_code_for(exc: GlintError) -> int:
     return 2 if isinstance(exc, _USER_ERRORS) else 1
 
 
-def _show_warning(message, category, filename, lineno, file=None, line=None) -> None:
+def _show_warning(message: Warning | str, category: type[Warning], filename: str, lineno: int,
+                  file: TextIO | None = None, line: str | None = None) -> None:
     """Warnings as one plain line on standard error (no source location)."""
     click.echo(f"Warning: {message}", err=True)
 
@@ -44,7 +46,7 @@ class _GlintGroup(click.Group):
     """Click group that turns glint errors into a one-line message and an
     exit code, without a traceback."""
 
-    def invoke(self, ctx: click.Context):  # noqa: D102 - click API
+    def invoke(self, ctx: click.Context) -> Any:  # noqa: D102 - click API
         try:
             with stop_on_signals():
                 return super().invoke(ctx)
@@ -81,13 +83,17 @@ def cli(verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.calendar import calendar_command
     from glint.cli.camera_view import camera_view_command
+    from glint.cli.plan import plan_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
 
     cli.add_command(map_command)
     cli.add_command(camera_view_command)
     cli.add_command(sun_command)
+    cli.add_command(plan_command)
+    cli.add_command(calendar_command)
 
 
 _register()

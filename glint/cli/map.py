@@ -3,12 +3,9 @@
 from __future__ import annotations
 
 import logging
-import math
 from pathlib import Path
-from typing import Any
 
 import click
-import numpy as np
 
 from glint.cli.options import (
     condition_options,
@@ -17,11 +14,12 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
+from glint.cli.report import echo_files, echo_summaries
 from glint.io.quicklook import CAUTION
 from glint.scene import OUTPUT_FORMATS
 from glint.variables import VARIABLES
 
-__all__ = ["map_command", "format_summary"]
+__all__ = ["map_command"]
 
 log = logging.getLogger(__name__)
 
@@ -38,46 +36,6 @@ Exit codes: 0 success, 2 invalid scene or input, 1 outputs could not be written,
 130 stopped by Ctrl-C (SIGINT), 143 stopped by SIGTERM; a stopped run leaves no
 partial set of outputs.
 """
-
-
-def _fmt(value: Any, digits: int = 4) -> str:
-    if isinstance(value, float):
-        return "nan" if math.isnan(value) else f"{value:.{digits}g}"
-    return str(value)
-
-
-def format_summary(summary: dict[str, Any]) -> list[str]:
-    """Lines describing one time's map summary (as returned by ``write_maps``)."""
-    lines: list[str] = []
-    t = summary.get("time")
-    if t is not None:
-        text = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
-        lines.append(f"Summary for {text} UTC:")
-    else:
-        lines.append("Summary:")
-    if "sun_zenith" in summary and "sun_azimuth" in summary:
-        lines.append(f"  sun zenith {float(summary['sun_zenith']):.2f} deg, azimuth "
-                     f"{float(summary['sun_azimuth']):.2f} deg "
-                     f"({summary.get('sun_at', 'grid centre')})")
-    if "max_glint_reflectance" in summary:
-        lines.append(f"  largest glint reflectance factor: "
-                     f"{_fmt(float(summary['max_glint_reflectance']))}")
-    shares = summary.get("class_shares")
-    if shares:
-        parts = ", ".join(f"{name} {100.0 * float(s):.1f} %" for name, s in shares.items())
-        lines.append(f"  glint classes (share of seen pixels): {parts}")
-    if "unseen_pixels" in summary:
-        lines.append(f"  pixels the sensor does not see: {int(summary['unseen_pixels'])}")
-    if "footprint" in summary:
-        lines.append(f"  footprint {summary['footprint']}")
-    if "ground_sampling_distance" in summary:
-        lines.append(f"  ground sampling distance: {summary['ground_sampling_distance']}")
-    known = {"time", "sun_zenith", "sun_azimuth", "sun_at", "max_glint_reflectance",
-             "class_shares", "unseen_pixels", "footprint", "ground_sampling_distance"}
-    for key, value in summary.items():
-        if key not in known:
-            log.info("%s: %s", key.replace("_", " "), _fmt(value))
-    return lines
 
 
 @click.command("map", epilog=_EPILOG)
@@ -110,11 +68,6 @@ def map_command(scene_file: Path, outdir: Path, formats: tuple[str, ...],
              *scene.grid.shape)
     result = write_maps(scene, outdir, formats=formats or None, variables=variables or None,
                         overwrite=overwrite, cog=cog)
-    click.echo(f"Wrote {len(result.files)} file(s):")
-    for path in result.files:
-        click.echo(f"  {path}")
-    summaries = getattr(result, "summaries", None) or [result.summary]
-    for summary in summaries:
-        for line in format_summary(summary):
-            click.echo(line)
+    echo_files(result.files)
+    echo_summaries(result.summaries)
     click.echo(CAUTION)

@@ -5,11 +5,10 @@ from __future__ import annotations
 import math
 
 import click
-import numpy as np
 
 from glint.io.quicklook import CAUTION
 from glint.scene import WAVELENGTH_RANGE
-from glint.times import parse_time
+from glint.times import format_time, parse_time
 
 __all__ = ["sun_command"]
 
@@ -72,9 +71,7 @@ def sun_command(latitude: float, longitude: float, time_text: str, elevation: fl
         sun=SunOptions(surface_elevation=elevation),
     )
     zenith = res["sun_zenith"]
-    stamp = np.datetime_as_string(np.datetime64(time, "s"), unit="s").replace("T", " ")
-
-    click.echo(f"Time (UTC):             {stamp}")
+    click.echo(f"Time:                   {format_time(time, 'text')}")
     ns = "N" if latitude >= 0 else "S"
     ew = "E" if longitude >= 0 else "W"
     click.echo(f"Place:                  {abs(latitude):.5f} {ns}, {abs(longitude):.5f} {ew}, "

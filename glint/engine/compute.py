@@ -38,12 +38,10 @@ from glint.geo.lattice import NODE_STEPS, LatticePlan, interpolate_field, plan_l
 from glint.physics.reflect import glint_kernel
 from glint.physics.sun import SolarPosition, earth_sun_distance, solar_position, sun_solid_angle
 from glint.physics.surface import (
-    SLOPE_MODEL_WIND_HEIGHT,
     SLOPE_VARIANCE_FLOOR,
     SlopeDistribution,
     gram_charlier_coefficients,
     slope_variances,
-    wind_speed_at_height,
 )
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
 from glint.sensors import GroundPoints, ViewAngles
@@ -123,18 +121,16 @@ def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
 
 
 def _kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
-    model_height = SLOPE_MODEL_WIND_HEIGHT[surf.slope_model]
-    wind = float(wind_speed_at_height(surf.wind_speed, surf.wind_height, target_height=model_height))
     # Calm water: the variances are floored as in surface.slope_pdf, so a
     # zero wind gives a very narrow glint instead of a division by zero.
-    s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(wind, model=surf.slope_model))
+    s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(
+        surf.wind_speed, model=surf.slope_model, wind_height=surf.wind_height))
     gc = None
     if surf.distribution == "gram-charlier":
         # Cox and Munk's skewness and kurtosis fits use their 12.5 m wind,
         # whichever model gives the variances.
-        w_cm = float(wind_speed_at_height(surf.wind_speed, surf.wind_height,
-                                          target_height=SLOPE_MODEL_WIND_HEIGHT["cox-munk"]))
-        gc = {k: float(v) for k, v in gram_charlier_coefficients(w_cm).items()}
+        gc = {k: float(v) for k, v in gram_charlier_coefficients(
+            surf.wind_speed, wind_height=surf.wind_height).items()}
     return KernelParameters(
         refractive_index=float(water.refractive_index_value()),
         sigma2_crosswind=float(s2c),

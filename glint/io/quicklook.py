@@ -1,16 +1,27 @@
 """PNG quicklooks of glint maps (matplotlib).
 
 A quicklook is for looking, not for measuring: the GeoTIFF and NetCDF
-outputs carry the values.
+outputs carry the values. :func:`quicklook` draws one field;
+:class:`QuicklookWriter` follows :class:`glint.io.outputset.OutputWriter`,
+keeps a decimated copy of one variable as the strips go by and draws it at
+close.
 """
 
 from __future__ import annotations
 
+import os
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
 from pathlib import Path
+from typing import Any
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
-__all__ = ["quicklook", "decimation_step"]
+from glint.io.strips import row_range
+
+__all__ = ["quicklook", "decimation_step", "QuicklookWriter", "QuicklookStyle", "CAUTION",
+           "MIN_REFLECTANCE_SCALE"]
 
 #: The caution printed on every quicklook and after every command.
 CAUTION = ("Glint maps are statistical estimates, not safety clearances; "
@@ -29,9 +40,9 @@ MIN_REFLECTANCE_SCALE = 0.01
 
 
 def quicklook(
-    values: np.ndarray,
+    values: ArrayLike,
     extent: tuple[float, float, float, float],
-    path: str | Path,
+    path: str | os.PathLike[str],
     *,
     title: str,
     label: str,
@@ -53,7 +64,7 @@ def quicklook(
     extent : (left, right, bottom, top)
         Outer edges of the field in the grid's CRS.
     path : path-like
-        Where to write; the caller handles atomic renaming.
+        Where to write (inside an output set: the set's temporary path).
     title, label : str
         Figure title and colour-bar label.
     axis_units : str
@@ -89,14 +100,15 @@ def quicklook(
     left, right, bottom, top = extent
     scale, unit = (1000.0, "km") if axis_units == "m" else (1.0, axis_units)
     fig, ax = plt.subplots(figsize=(7.5, 6.5), dpi=110, layout="constrained")
-    fig.get_layout_engine().set(rect=(0.0, 0.04, 1.0, 0.96))  # room for the footer
+    engine: Any = fig.get_layout_engine()
+    engine.set(rect=(0.0, 0.04, 1.0, 0.96))  # room for the footer
     cmap_obj = matplotlib.colormaps[cmap].with_extremes(bad="#b8c4cc")
     im = ax.imshow(
         np.ma.masked_invalid(v), extent=(left / scale, right / scale, bottom / scale, top / scale),
         origin="upper", cmap=cmap_obj, vmin=0.0, vmax=vmax, interpolation="nearest",
     )
     over = finite.size and float(finite.max()) > vmax
-    cax = ax.inset_axes([1.04, 0.0, 0.04, 1.0])  # exactly as tall as the map
+    cax = ax.inset_axes((1.04, 0.0, 0.04, 1.0))  # exactly as tall as the map
     cb = fig.colorbar(im, cax=cax, extend="max" if over else "neither")
     cb.set_label(label)
     ax.ticklabel_format(useOffset=False, style="plain")
@@ -114,3 +126,85 @@ def quicklook(
     fig.savefig(path, format="png")
     plt.close(fig)
     return Path(path)
+
+
+@dataclass(frozen=True)
+class QuicklookStyle:
+    """How a quicklook is drawn: the keyword options of :func:`quicklook`."""
+
+    title: str
+    label: str
+    subtitle: str = ""
+    axis_units: str = "m"
+    cmap: str = "magma"
+    vmax: float | None = None
+    xlabel: str | None = None
+    ylabel: str | None = None
+    geographic: bool = False
+
+
+class QuicklookWriter:
+    """A PNG quicklook of one variable, fed the grid's strips in row order.
+
+    Parameters
+    ----------
+    path : path-like
+        The PNG to write (inside an output set: the set's temporary path).
+    shape : (rows, cols)
+        Shape of the full field.
+    extent : (left, right, bottom, top)
+        Outer edges of the field in the axis coordinates.
+    variable : str
+        The variable drawn.
+    style : QuicklookStyle
+        Titles, labels and colour scale.
+    max_pixels : int, optional
+        Largest number of pixels per side; the field is decimated to fit.
+
+    Examples
+    --------
+    >>> import tempfile, os
+    >>> p = os.path.join(tempfile.mkdtemp(), "q.png")
+    >>> w = QuicklookWriter(p, (4, 6), (0, 6, 0, 4), "glint_reflectance",
+    ...                     QuicklookStyle(title="t", label="l"))
+    >>> w.write(slice(0, 4), {"glint_reflectance": np.zeros((4, 6))})
+    >>> w.close()
+    >>> open(p, "rb").read(4)
+    b'\\x89PNG'
+    """
+
+    def __init__(self, path: str | os.PathLike[str], shape: tuple[int, int],
+                 extent: tuple[float, float, float, float], variable: str, style: QuicklookStyle,
+                 *, max_pixels: int = 1200) -> None:
+        self.path = Path(path)
+        self.shape = (int(shape[0]), int(shape[1]))
+        self.extent = extent
+        self.variable = variable
+        self.style = style
+        self.step = decimation_step(self.shape, max_pixels)
+        self._rows: list[NDArray[Any]] = []
+        self._done = False
+
+    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike]) -> None:
+        """Keep every ``step``-th row and column of the strip's variable."""
+        r0, r1 = row_range(rows, self.shape[0])
+        values = np.asarray(arrays[self.variable])
+        first = (-r0) % self.step
+        self._rows.append(values[first::self.step, ::self.step])
+
+    def close(self) -> None:
+        """Draw the PNG."""
+        if self._done:
+            return
+        field = np.concatenate(self._rows, axis=0) if self._rows else np.full((1, 1), np.nan)
+        s = self.style
+        quicklook(field, self.extent, self.path, title=s.title, label=s.label, subtitle=s.subtitle,
+                  axis_units=s.axis_units, cmap=s.cmap, vmax=s.vmax, xlabel=s.xlabel,
+                  ylabel=s.ylabel, geographic=s.geographic)
+        self._done = True
+        self._rows.clear()
+
+    def abort(self) -> None:
+        """Drop the decimated copy; the file is removed by the output set."""
+        self._rows.clear()
+        self._done = True

@@ -15,9 +15,10 @@ The derivation is written out in ``docs/theory.md``.
 
 from __future__ import annotations
 
-from typing import Any, NamedTuple
+from typing import NamedTuple
 
 import numpy as np
+from numpy.typing import ArrayLike
 
 from glint.validation import as_float_array, broadcast_inputs, check_range, wrap_azimuth
 from glint.errors import InputError
@@ -57,7 +58,7 @@ class FacetGeometry(NamedTuple):
 
 
 def _angles(
-    sun_zenith: Any, sun_azimuth: Any, view_zenith: Any, view_azimuth: Any
+    sun_zenith: ArrayLike, sun_azimuth: ArrayLike, view_zenith: ArrayLike, view_azimuth: ArrayLike
 ) -> dict[str, np.ndarray]:
     """Convert, validate and broadcast the four angles (degrees)."""
     values = {
@@ -102,7 +103,7 @@ def _angle_to_mirror(s: tuple[np.ndarray, ...], v: tuple[np.ndarray, ...]) -> np
     return np.degrees(np.arctan2(cross, dot))
 
 
-def relative_azimuth(sun_azimuth: Any, view_azimuth: Any) -> np.ndarray:
+def relative_azimuth(sun_azimuth: ArrayLike, view_azimuth: ArrayLike) -> np.ndarray:
     """Azimuth of the sensor relative to the sun.
 
     Parameters
@@ -145,7 +146,7 @@ def relative_azimuth(sun_azimuth: Any, view_azimuth: Any) -> np.ndarray:
 
 
 def glint_angle(
-    sun_zenith: Any, sun_azimuth: Any, view_zenith: Any, view_azimuth: Any
+    sun_zenith: ArrayLike, sun_azimuth: ArrayLike, view_zenith: ArrayLike, view_azimuth: ArrayLike
 ) -> np.ndarray:
     """Angle between the view direction and the flat-water specular direction.
 
@@ -202,7 +203,7 @@ def glint_angle(
 
 
 def facet_geometry(
-    sun_zenith: Any, sun_azimuth: Any, view_zenith: Any, view_azimuth: Any
+    sun_zenith: ArrayLike, sun_azimuth: ArrayLike, view_zenith: ArrayLike, view_azimuth: ArrayLike
 ) -> FacetGeometry:
     """Orientation of the water facet that reflects the sun into the sensor.
 

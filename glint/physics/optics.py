@@ -13,9 +13,10 @@ compiled kernel can call or mirror it; the Fresnel formulas live only here.
 from __future__ import annotations
 
 import warnings
-from typing import Any, Literal
+from typing import Literal
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
 from glint.validation import as_float_array, check_choice, check_range, user_stacklevel, warn_outside
 from glint.errors import ValidityWarning
@@ -30,6 +31,9 @@ __all__ = [
     "water_density",
     "air_refractive_index",
 ]
+
+#: A float or a float array (plain-arithmetic building blocks).
+Real = float | NDArray[np.floating]
 
 Polarization = Literal["unpolarized", "s", "p"]
 IndexMethod = Literal["quan-fry", "iapws"]
@@ -67,7 +71,7 @@ _TANAKA = (-3.983035, 301.797, 522528.9, 69.34881, 999.974950)
 _EDLEN = (8342.13, 2406030.0, 130.0, 15997.0, 38.9)
 
 
-def fresnel_amplitudes(cos_incidence: Any, refractive_index: Any) -> tuple[Any, Any]:
+def fresnel_amplitudes(cos_incidence: Real, refractive_index: Real) -> tuple[Real, Real]:
     """Fresnel power reflectances for s and p polarisation from a cosine.
 
     Parameters
@@ -114,8 +118,8 @@ def fresnel_amplitudes(cos_incidence: Any, refractive_index: Any) -> tuple[Any, 
 
 
 def fresnel_reflectance(
-    incidence_angle: Any,
-    refractive_index: Any,
+    incidence_angle: ArrayLike,
+    refractive_index: ArrayLike,
     *,
     polarization: Polarization = "unpolarized",
 ) -> np.ndarray:
@@ -184,7 +188,7 @@ def fresnel_reflectance(
     return np.asarray(np.clip(r, 0.0, 1.0), dtype=float)
 
 
-def water_density(temperature: Any) -> np.ndarray:
+def water_density(temperature: ArrayLike) -> np.ndarray:
     """Density of air-free pure water at 101.325 kPa.
 
     Parameters
@@ -238,7 +242,7 @@ def water_density(temperature: Any) -> np.ndarray:
         return a5 * (1.0 - (t + a1) ** 2 * (t + a2) / (a3 * (t + a4)))
 
 
-def air_refractive_index(wavelength: Any) -> np.ndarray:
+def air_refractive_index(wavelength: ArrayLike) -> np.ndarray:
     """Refractive index of standard dry air.
 
     Parameters
@@ -305,7 +309,7 @@ def _quan_fry(lam: np.ndarray, t: np.ndarray, s: np.ndarray) -> np.ndarray:
     )
 
 
-def _iapws(lam: np.ndarray, t: np.ndarray, density: Any) -> np.ndarray:
+def _iapws(lam: np.ndarray, t: np.ndarray, density: np.ndarray) -> np.ndarray:
     """IAPWS R9-97 index relative to vacuum: wavelength [nm], temperature
     [°C], density [kg m-3]."""
     a0, a1, a2, a3, a4, a5, a6, a7 = _IAPWS_A
@@ -320,10 +324,10 @@ def _iapws(lam: np.ndarray, t: np.ndarray, density: Any) -> np.ndarray:
 
 
 def water_refractive_index(
-    wavelength: Any,
+    wavelength: ArrayLike,
     *,
-    temperature: Any = 20.0,
-    salinity: Any = 35.0,
+    temperature: ArrayLike = 20.0,
+    salinity: ArrayLike = 35.0,
     method: IndexMethod = "quan-fry",
     reference: ReferenceMedium = "air",
 ) -> np.ndarray:

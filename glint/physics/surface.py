@@ -27,21 +27,33 @@ only here.
 from __future__ import annotations
 
 import math
-from typing import Any, Literal
+from collections.abc import Callable
+from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
+from numpy.typing import ArrayLike, NDArray
 
-from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
 from glint.errors import InputError
+from glint.physics.shadowing import bidirectional_shadowing, shadowing, smith_shadowing
+from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
 
 __all__ = [
     "SLOPE_MODELS",
     "SLOPE_MODEL_WIND_HEIGHT",
     "SLOPE_MODEL_WIND_RANGE",
+    "SLOPE_MODEL_REGISTRY",
+    "SlopeModelInfo",
     "SLOPE_DISTRIBUTIONS",
     "SLOPE_VARIANCE_FLOOR",
     "ROUGHNESS_LENGTH",
+    "COX_MUNK_WIND_HEIGHT",
     "WHITECAP_METHODS",
+    "slope_model",
+    "cox_munk_clean",
+    "cox_munk_slick",
+    "breon_henriot",
+    "wu",
     "slope_variances",
     "gram_charlier_coefficients",
     "wind_frame_slopes",
@@ -50,38 +62,13 @@ __all__ = [
     "slope_pdf",
     "wind_speed_at_height",
     "whitecap_fraction",
+    "smith_shadowing",
     "shadowing",
     "bidirectional_shadowing",
 ]
 
-SlopeModel = Literal["cox-munk", "cox-munk-slick", "breon-henriot", "wu"]
 SlopeDistribution = Literal["gaussian", "gram-charlier"]
 WhitecapMethod = Literal["monahan-ocmuircheartaigh", "stramska-petelski"]
-
-#: Names of the slope-variance models accepted by ``model=``.
-SLOPE_MODELS: tuple[str, ...] = ("cox-munk", "cox-munk-slick", "breon-henriot", "wu")
-
-#: Height above the sea [m] at which each model's wind speed was measured.
-#: Cox and Munk (1954) used an anemometer at 12.5 m; Bréon and Henriot (2006)
-#: and Wu (1990) express their fits against the 10 m wind. Convert a 10 m wind
-#: with :func:`wind_speed_at_height` before calling a 12.5 m model.
-SLOPE_MODEL_WIND_HEIGHT: dict[str, float] = {
-    "cox-munk": 12.5,
-    "cox-munk-slick": 12.5,
-    "breon-henriot": 10.0,
-    "wu": 10.0,
-}
-
-#: Wind-speed range [m s⁻¹] covered by each model's data; outside it the
-#: result is an extrapolation and a ValidityWarning is issued. Cox and Munk
-#: (1954): 1-14 m/s (stated in the abstract). Bréon and Henriot (2006):
-#: 0-15 m/s and Wu (1990): 1-20 m/s (from memory).
-SLOPE_MODEL_WIND_RANGE: dict[str, tuple[float, float]] = {
-    "cox-munk": (1.0, 14.0),
-    "cox-munk-slick": (1.0, 14.0),
-    "breon-henriot": (0.0, 15.0),
-    "wu": (1.0, 20.0),
-}
 
 #: Smallest mean square slope [1] used by :func:`slope_pdf` on each axis. The
 #: Cox-Munk clean upwind law is 0 at calm (3.16e-3 W), which would make the
@@ -94,21 +81,194 @@ SLOPE_VARIANCE_FLOOR = 1e-6
 #: profile [m] (common practice; see :func:`wind_speed_at_height`).
 ROUGHNESS_LENGTH = 2e-4
 
+#: Height [m] of the anemometer of Cox and Munk (1954), the wind their
+#: Gram-Charlier coefficients were fitted against.
+COX_MUNK_WIND_HEIGHT = 12.5
+
 #: Names accepted by ``distribution=`` of :func:`slope_pdf`.
 SLOPE_DISTRIBUTIONS: tuple[str, ...] = ("gaussian", "gram-charlier")
 
 #: Names accepted by ``method=`` of :func:`whitecap_fraction`.
 WHITECAP_METHODS: tuple[str, ...] = ("monahan-ocmuircheartaigh", "stramska-petelski")
 
-# Linear laws sigma^2 = a + b W: (a_crosswind, b_crosswind, a_upwind, b_upwind).
-_LINEAR_LAWS: dict[str, tuple[float, float, float, float]] = {
-    # Cox and Munk (1954), clean surface.
-    "cox-munk": (0.003, 1.92e-3, 0.000, 3.16e-3),
-    # Cox and Munk (1954), surface covered by an oil slick.
-    "cox-munk-slick": (0.003, 0.84e-3, 0.005, 0.78e-3),
-    # Bréon and Henriot (2006), POLDER glint fits (from memory).
-    "breon-henriot": (3.0e-3, 1.85e-3, 1.0e-3, 3.16e-3),
-}
+FloatArray = NDArray[np.float64]
+#: A float or a float array: the building blocks below are plain arithmetic
+#: and run on either (and under numba.njit on scalars).
+Real = float | NDArray[np.floating]
+SlopeLaw = Callable[[FloatArray], tuple[FloatArray, FloatArray]]
+
+
+# ---------------------------------------------------------------------------
+# slope-variance models: one registry, filled by the @slope_model decorator
+# ---------------------------------------------------------------------------
+
+
+@dataclass(frozen=True)
+class SlopeModelInfo:
+    """One slope-variance model of the registry.
+
+    Attributes
+    ----------
+    name : str
+        The value of ``model=`` that selects it.
+    law : callable
+        ``law(wind_speed_model_height) -> (sigma2_crosswind, sigma2_upwind)``
+        on float arrays of the wind [m s⁻¹] at ``wind_height``.
+    wind_height : float
+        Height above the sea [m] of the wind the model was fitted against.
+    wind_range : tuple of float
+        Wind speeds [m s⁻¹] (at ``wind_height``) covered by the model's
+        data; outside them a ValidityWarning is issued.
+    reference : str
+        Short citation with DOI.
+    """
+
+    name: str
+    law: SlopeLaw
+    wind_height: float
+    wind_range: tuple[float, float]
+    reference: str
+
+
+#: Every slope-variance model by name, in the order they are defined below.
+SLOPE_MODEL_REGISTRY: dict[str, SlopeModelInfo] = {}
+
+
+def slope_model(
+    name: str, *, wind_height: float, wind_range: tuple[float, float], reference: str
+) -> Callable[[SlopeLaw], SlopeLaw]:
+    """Register a slope-variance law under ``name`` (decorator).
+
+    The decorated function takes the wind [m s⁻¹] at ``wind_height`` as a
+    float array (already checked to be >= 0 or NaN) and returns the crosswind
+    and upwind mean square slopes. :func:`slope_variances`, ``SLOPE_MODELS``,
+    ``SLOPE_MODEL_WIND_HEIGHT`` and ``SLOPE_MODEL_WIND_RANGE`` all read the
+    registry, so registering is the one step that adds a model.
+    """
+
+    def register(law: SlopeLaw) -> SlopeLaw:
+        if name in SLOPE_MODEL_REGISTRY:
+            raise ValueError(f"slope model {name!r} is already registered")
+        SLOPE_MODEL_REGISTRY[name] = SlopeModelInfo(
+            name=name, law=law, wind_height=float(wind_height),
+            wind_range=(float(wind_range[0]), float(wind_range[1])), reference=reference,
+        )
+        return law
+
+    return register
+
+
+@slope_model("cox-munk", wind_height=12.5, wind_range=(1.0, 14.0),
+             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838")
+def cox_munk_clean(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Cox and Munk's (1954) mean square slopes of a clean sea surface.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed W [m s⁻¹] at 12.5 m, the height of Cox and Munk's
+        anemometer. Fitted for 1-14 m/s (stated in the abstract).
+
+    Returns
+    -------
+    sigma2_crosswind, sigma2_upwind : numpy.ndarray
+        Mean square slopes [1].
+
+    Notes
+    -----
+    :math:`\\sigma_c^2 = 0.003 + 1.92\\times10^{-3} W`,
+    :math:`\\sigma_u^2 = 3.16\\times10^{-3} W`. The published total
+    0.003 + 5.12e-3 W is a separate fit: the components sum to
+    0.003 + 5.08e-3 W, within 1 %.
+
+    References
+    ----------
+    Cox, C. and Munk, W. (1954). Measurement of the roughness of the sea
+    surface from photographs of the sun's glitter. JOSA 44(11), 838-850,
+    doi:10.1364/JOSA.44.000838.
+
+    Examples
+    --------
+    >>> c, u = cox_munk_clean(np.array(10.0))
+    >>> round(float(c), 4), round(float(u), 4)
+    (0.0222, 0.0316)
+    """
+    w = wind_speed_model_height
+    return 0.003 + 1.92e-3 * w, 0.000 + 3.16e-3 * w
+
+
+@slope_model("cox-munk-slick", wind_height=12.5, wind_range=(1.0, 14.0),
+             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838")
+def cox_munk_slick(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Cox and Munk's (1954) mean square slopes of a sea covered by a slick.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed W [m s⁻¹] at 12.5 m. Fitted for 1-14 m/s.
+
+    Returns
+    -------
+    sigma2_crosswind, sigma2_upwind : numpy.ndarray
+        Mean square slopes [1].
+
+    Notes
+    -----
+    :math:`\\sigma_c^2 = 0.003 + 0.84\\times10^{-3} W`,
+    :math:`\\sigma_u^2 = 0.005 + 0.78\\times10^{-3} W`.
+
+    References
+    ----------
+    Cox, C. and Munk, W. (1954). JOSA 44(11), 838-850,
+    doi:10.1364/JOSA.44.000838.
+
+    Examples
+    --------
+    >>> c, u = cox_munk_slick(np.array(10.0))
+    >>> round(float(c), 4), round(float(u), 4)
+    (0.0114, 0.0128)
+    """
+    w = wind_speed_model_height
+    return 0.003 + 0.84e-3 * w, 0.005 + 0.78e-3 * w
+
+
+@slope_model("breon-henriot", wind_height=10.0, wind_range=(0.0, 15.0),
+             reference="Bréon and Henriot (2006), doi:10.1029/2005JC003343")
+def breon_henriot(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Bréon and Henriot's (2006) mean square slopes from POLDER glint.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed W [m s⁻¹] at 10 m. Range of the data 0-15 m/s (from
+        memory).
+
+    Returns
+    -------
+    sigma2_crosswind, sigma2_upwind : numpy.ndarray
+        Mean square slopes [1].
+
+    Notes
+    -----
+    :math:`\\sigma_c^2 = 3\\times10^{-3} + 1.85\\times10^{-3} W`,
+    :math:`\\sigma_u^2 = 1\\times10^{-3} + 3.16\\times10^{-3} W`
+    (coefficients from memory, not checked against the paper).
+
+    References
+    ----------
+    Bréon, F.-M. and Henriot, N. (2006). Spaceborne observations of ocean
+    glint reflectance and modeling of wave slope distributions. JGR 111,
+    C06005, doi:10.1029/2005JC003343.
+
+    Examples
+    --------
+    >>> c, u = breon_henriot(np.array(10.0))
+    >>> round(float(c), 4), round(float(u), 4)
+    (0.0215, 0.0326)
+    """
+    w = wind_speed_model_height
+    return 3.0e-3 + 1.85e-3 * w, 1.0e-3 + 3.16e-3 * w
+
 
 # Wu (1990) total mean square slope, two log-linear regimes (from memory):
 # mss = 1e-2 (0.90 ln U + 1.20) at light winds, 1e-2 (6.0 ln U - 8.4) above.
@@ -121,6 +281,73 @@ _WU_FLOOR = 0.003
 # the ratio of Cox and Munk's clean-surface slopes b_c / (b_c + b_u).
 _WU_CROSSWIND_SHARE = 1.92 / (1.92 + 3.16)
 
+
+@slope_model("wu", wind_height=10.0, wind_range=(1.0, 20.0),
+             reference="Wu (1990), doi:10.1029/RS025i001p00037")
+def wu(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
+    """Wu's (1990) total mean square slope, split into two directions.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed U [m s⁻¹] at 10 m. Range of the data 1-20 m/s (from
+        memory).
+
+    Returns
+    -------
+    sigma2_crosswind, sigma2_upwind : numpy.ndarray
+        Mean square slopes [1].
+
+    Notes
+    -----
+    Two log-linear regimes (from memory):
+    :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
+    :math:`10^{-2}(6.0 \\ln U - 8.4)` at strong winds. Wu places the break
+    near 7 m/s; here the larger of the two lines is used, which switches at
+    their crossing (U = 6.57 m/s) and keeps the total continuous. The total
+    is floored at 0.003 and split in the ratio of Cox and Munk's clean
+    slopes, crosswind share 1.92 / 5.08.
+
+    References
+    ----------
+    Wu, J. (1990). Mean square slopes of the wind-disturbed water surface,
+    their magnitude, directionality, and composition. Radio Science 25(1),
+    37-48, doi:10.1029/RS025i001p00037.
+
+    Examples
+    --------
+    >>> c, u = wu(np.array(10.0))
+    >>> round(float(c + u), 4)
+    0.0542
+    """
+    w = wind_speed_model_height
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lnw = np.log(w)
+        total = np.maximum(_WU_LOW[0] * lnw + _WU_LOW[1], _WU_HIGH[0] * lnw + _WU_HIGH[1])
+        total = np.where(np.isnan(w), np.nan, np.maximum(total, _WU_FLOOR))
+    return total * _WU_CROSSWIND_SHARE, total * (1.0 - _WU_CROSSWIND_SHARE)
+
+
+# Views of the registry (read by the scene and engine layers). Every model is
+# registered above this line.
+
+#: Names of the slope-variance models accepted by ``model=``.
+SLOPE_MODELS: tuple[str, ...] = tuple(SLOPE_MODEL_REGISTRY)
+
+#: Height above the sea [m] at which each model's wind speed was measured:
+#: 12.5 m for Cox and Munk (1954), 10 m for Bréon and Henriot (2006) and Wu
+#: (1990). :func:`slope_variances` converts a wind given at another height.
+SLOPE_MODEL_WIND_HEIGHT: dict[str, float] = {
+    name: info.wind_height for name, info in SLOPE_MODEL_REGISTRY.items()
+}
+
+#: Wind-speed range [m s⁻¹] covered by each model's data (at the model's
+#: height); outside it the result is an extrapolation and a ValidityWarning
+#: is issued.
+SLOPE_MODEL_WIND_RANGE: dict[str, tuple[float, float]] = {
+    name: info.wind_range for name, info in SLOPE_MODEL_REGISTRY.items()
+}
+
 # Cox and Munk (1954) clean-surface Gram-Charlier coefficients.
 _C21 = (0.01, -0.0086)
 _C03 = (0.04, -0.033)
@@ -129,25 +356,41 @@ _C22 = 0.12
 _C04 = 0.23
 
 
-def _wind(wind_speed: Any, name: str = "wind_speed") -> np.ndarray:
+def _wind(wind_speed: ArrayLike, name: str = "wind_speed") -> FloatArray:
     w = as_float_array(wind_speed, name)
     check_range(w, name, 0.0, None, unit="m s⁻¹")
     return w
 
 
+def _wind_at(w: FloatArray, wind_height: ArrayLike, target_height: float) -> FloatArray:
+    """``w`` (checked, at ``wind_height``) at ``target_height``: unchanged
+    when the heights are equal, else by :func:`wind_speed_at_height`."""
+    z = as_float_array(wind_height, "wind_height")
+    if z.ndim == 0 and float(z) == target_height:
+        return w
+    return wind_speed_at_height(w, z, target_height=target_height)
+
+
 def slope_variances(
-    wind_speed: Any, *, model: SlopeModel = "cox-munk"
-) -> tuple[np.ndarray, np.ndarray]:
+    wind_speed: ArrayLike, *, model: str = "cox-munk", wind_height: ArrayLike = 10.0
+) -> tuple[FloatArray, FloatArray]:
     """Crosswind and upwind mean square slopes of the sea surface.
 
     Parameters
     ----------
     wind_speed : array_like
-        Wind speed [m s⁻¹] at the model's own height,
-        ``SLOPE_MODEL_WIND_HEIGHT[model]`` (12.5 m for the Cox-Munk models,
-        10 m for the others). NaN flows through.
-    model : {"cox-munk", "cox-munk-slick", "breon-henriot", "wu"}
-        Slope-variance law.
+        Wind speed [m s⁻¹] at ``wind_height``. NaN flows through.
+    model : str
+        Slope-variance law, one of ``SLOPE_MODELS`` ("cox-munk",
+        "cox-munk-slick", "breon-henriot", "wu"); see
+        ``SLOPE_MODEL_REGISTRY`` and the model functions
+        :func:`cox_munk_clean`, :func:`cox_munk_slick`,
+        :func:`breon_henriot`, :func:`wu`.
+    wind_height : array_like
+        Height of ``wind_speed`` above the water [m]; 10 m by default. The
+        wind is converted to the model's own height
+        (``SLOPE_MODEL_WIND_HEIGHT[model]``: 12.5 m for the Cox-Munk
+        models, 10 m for the others) with :func:`wind_speed_at_height`.
 
     Returns
     -------
@@ -157,75 +400,60 @@ def slope_variances(
     Raises
     ------
     InputError
-        Negative wind speed or unknown model.
+        Negative wind speed, a bad ``wind_height`` or an unknown model.
 
     Warns
     -----
     ValidityWarning
-        Wind speed outside ``SLOPE_MODEL_WIND_RANGE[model]``.
+        Wind speed (at the model's height) outside
+        ``SLOPE_MODEL_WIND_RANGE[model]``.
 
     Notes
     -----
-    Linear laws :math:`\\sigma^2 = a + b W` with (a, b) crosswind / upwind:
-
-    * ``cox-munk`` (clean): 0.003 + 1.92e-3 W, 3.16e-3 W
-      (published total 0.003 + 5.12e-3 W, a separate fit: the components sum
-    to 0.003 + 5.08e-3 W, within 1 %), W at 12.5 m.
-    * ``cox-munk-slick``: 0.003 + 0.84e-3 W, 0.005 + 0.78e-3 W, W at 12.5 m.
-    * ``breon-henriot``: 3e-3 + 1.85e-3 W, 1e-3 + 3.16e-3 W, W at 10 m
-      (coefficients from memory, not checked against the paper).
-
-    ``wu`` gives the total mean square slope in two log-linear regimes (from
-    memory): :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
-    :math:`10^{-2}(6.0 \\ln U - 8.4)` at strong winds. Wu places the break
-    near 7 m/s; here the larger of the two lines is used, which switches at
-    their crossing (U = 6.57 m/s) and keeps the total continuous. The total
-    is floored at 0.003 and split in the ratio of Cox and Munk's clean
-    slopes, crosswind share 1.92 / 5.08.
+    Each model's equation, reference and fitted range are in the docstring
+    of its function. Adding a model is one decorated function
+    (:func:`slope_model`).
 
     References
     ----------
-    Cox, C. and Munk, W. (1954). Measurement of the roughness of the sea
-    surface from photographs of the sun's glitter. JOSA 44(11), 838-850,
+    Cox, C. and Munk, W. (1954). JOSA 44(11), 838-850,
     doi:10.1364/JOSA.44.000838.
-
-    Bréon, F.-M. and Henriot, N. (2006). Spaceborne observations of ocean
-    glint reflectance and modeling of wave slope distributions. JGR 111,
-    C06005, doi:10.1029/2005JC003343.
-
-    Wu, J. (1990). Mean square slopes of the wind-disturbed water surface,
-    their magnitude, directionality, and composition. Radio Science 25(1),
-    37-48, doi:10.1029/RS025i001p00037.
 
     Examples
     --------
-    >>> c, u = slope_variances(10.0)
+    Cox and Munk's law at their anemometer height, and from a 10 m wind:
+
+    >>> c, u = slope_variances(10.0, wind_height=12.5)
     >>> round(float(c), 4), round(float(u), 4)
     (0.0222, 0.0316)
+    >>> c, u = slope_variances(10.0)
+    >>> round(float(c), 4), round(float(u), 4)
+    (0.0226, 0.0323)
     """
     check_choice(model, "model", SLOPE_MODELS)
-    w = _wind(wind_speed)
-    low, high = SLOPE_MODEL_WIND_RANGE[model]
-    warn_outside(w, f"wind_speed (at the model's {SLOPE_MODEL_WIND_HEIGHT[model]:g} m height)", low, high,
+    info = SLOPE_MODEL_REGISTRY[model]
+    w = _wind_at(_wind(wind_speed), wind_height, info.wind_height)
+    low, high = info.wind_range
+    warn_outside(w, f"wind_speed (at the model's {info.wind_height:g} m height)", low, high,
                  f"the {model!r} slope model's data")
-    if model == "wu":
-        with np.errstate(divide="ignore", invalid="ignore"):
-            lnw = np.log(w)
-            total = np.maximum(_WU_LOW[0] * lnw + _WU_LOW[1], _WU_HIGH[0] * lnw + _WU_HIGH[1])
-            total = np.where(np.isnan(w), np.nan, np.maximum(total, _WU_FLOOR))
-        return total * _WU_CROSSWIND_SHARE, total * (1.0 - _WU_CROSSWIND_SHARE)
-    ac, bc, au, bu = _LINEAR_LAWS[model]
-    return ac + bc * w, au + bu * w
+    c, u = info.law(w)
+    return np.asarray(c, dtype=float), np.asarray(u, dtype=float)
 
 
-def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
+def gram_charlier_coefficients(
+    wind_speed: ArrayLike, *, wind_height: ArrayLike = 10.0
+) -> dict[str, FloatArray]:
     """Skewness and peakedness coefficients of Cox and Munk's clean surface.
 
     Parameters
     ----------
     wind_speed : array_like
-        Wind speed [m s⁻¹] at 12.5 m (the height of Cox and Munk's
-        anemometer).
+        Wind speed [m s⁻¹] at ``wind_height``.
+    wind_height : array_like
+        Height of ``wind_speed`` above the water [m]; 10 m by default. The
+        coefficients were fitted against the wind at 12.5 m (Cox and Munk's
+        anemometer, ``COX_MUNK_WIND_HEIGHT``), to which the wind is
+        converted with :func:`wind_speed_at_height`.
 
     Returns
     -------
@@ -236,12 +464,12 @@ def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
     Raises
     ------
     InputError
-        Negative wind speed.
+        Negative wind speed or a bad ``wind_height``.
 
     Warns
     -----
     ValidityWarning
-        Wind speed outside 1-14 m/s.
+        Wind speed (at 12.5 m) outside 1-14 m/s.
 
     Notes
     -----
@@ -256,11 +484,11 @@ def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
 
     Examples
     --------
-    >>> c = gram_charlier_coefficients(10.0)
+    >>> c = gram_charlier_coefficients(10.0, wind_height=12.5)
     >>> round(float(c["c03"]), 3), float(c["c40"])
     (-0.29, 0.4)
     """
-    w = _wind(wind_speed)
+    w = _wind_at(_wind(wind_speed), wind_height, COX_MUNK_WIND_HEIGHT)
     warn_outside(w, "wind_speed (at 12.5 m)", 1.0, 14.0, "Cox and Munk's (1954) data")
     nan = np.where(np.isnan(w), np.nan, 0.0)
     return {
@@ -272,7 +500,7 @@ def gram_charlier_coefficients(wind_speed: Any) -> dict[str, np.ndarray]:
     }
 
 
-def wind_frame_slopes(zx: Any, zy: Any, wind_direction: Any) -> tuple[Any, Any]:
+def wind_frame_slopes(zx: Real, zy: Real, wind_direction: Real) -> tuple[Real, Real]:
     """Rotate east/north slopes into the wind frame.
 
     Parameters
@@ -309,8 +537,8 @@ def wind_frame_slopes(zx: Any, zy: Any, wind_direction: Any) -> tuple[Any, Any]:
 
 
 def anisotropic_gaussian_pdf(
-    z_crosswind: Any, z_upwind: Any, sigma2_crosswind: Any, sigma2_upwind: Any
-) -> Any:
+    z_crosswind: Real, z_upwind: Real, sigma2_crosswind: Real, sigma2_upwind: Real
+) -> Real:
     """Bivariate Gaussian slope density with independent wind-frame axes.
 
     Parameters
@@ -344,8 +572,8 @@ def anisotropic_gaussian_pdf(
 
 
 def gram_charlier_series(
-    xi: Any, eta: Any, c21: Any, c03: Any, c40: Any, c22: Any, c04: Any
-) -> Any:
+    xi: Real, eta: Real, c21: Real, c03: Real, c40: Real, c22: Real, c04: Real
+) -> Real:
     """Gram-Charlier factor multiplying the Gaussian slope density.
 
     Parameters
@@ -410,14 +638,15 @@ def gram_charlier_series(
 
 
 def slope_pdf(
-    zx: Any,
-    zy: Any,
-    wind_speed: Any,
+    zx: ArrayLike,
+    zy: ArrayLike,
+    wind_speed: ArrayLike,
     *,
-    wind_direction: Any = None,
-    model: SlopeModel = "cox-munk",
+    wind_direction: ArrayLike | None = None,
+    model: str = "cox-munk",
     distribution: SlopeDistribution = "gaussian",
-) -> np.ndarray:
+    wind_height: ArrayLike = 10.0,
+) -> FloatArray:
     """Probability density of sea-surface slopes.
 
     Parameters
@@ -425,17 +654,19 @@ def slope_pdf(
     zx, zy : array_like
         Facet slopes towards east and north (dz/dx, dz/dy) [1].
     wind_speed : array_like
-        Wind speed [m s⁻¹] at the model's height
-        (``SLOPE_MODEL_WIND_HEIGHT[model]``).
+        Wind speed [m s⁻¹] at ``wind_height``.
     wind_direction : array_like or None
         Direction the wind blows from, clockwise from true north [°].
         ``None`` (unknown) selects an isotropic Gaussian.
-    model : {"cox-munk", "cox-munk-slick", "breon-henriot", "wu"}
-        Slope-variance law (:func:`slope_variances`).
+    model : str
+        Slope-variance law, one of ``SLOPE_MODELS`` (:func:`slope_variances`).
     distribution : {"gaussian", "gram-charlier"}
         Gaussian, or Cox and Munk's Gram-Charlier series with the clean
-        surface coefficients (:func:`gram_charlier_coefficients`, wind taken
-        as given) and the variances of ``model``.
+        surface coefficients (:func:`gram_charlier_coefficients`, at the
+        12.5 m wind) and the variances of ``model``.
+    wind_height : array_like
+        Height of ``wind_speed`` above the water [m]; 10 m by default
+        (converted to each model's height, see :func:`slope_variances`).
 
     Returns
     -------
@@ -468,7 +699,7 @@ def slope_pdf(
 
     Examples
     --------
-    >>> p = slope_pdf(0.0, 0.0, 5.0, wind_direction=270.0)
+    >>> p = slope_pdf(0.0, 0.0, 5.0, wind_direction=270.0, wind_height=12.5)
     >>> round(float(p), 2)
     11.28
     """
@@ -484,17 +715,18 @@ def slope_pdf(
     w = as_float_array(wind_speed, "wind_speed")
     phi = None if wind_direction is None else as_float_array(wind_direction, "wind_direction")
     broadcast_inputs(zx=zx, zy=zy, wind_speed=w, wind_direction=0.0 if phi is None else phi)
-    s2c, s2u = slope_variances(w, model=model)
+    s2c, s2u = slope_variances(w, model=model, wind_height=wind_height)
     s2c = np.maximum(s2c, SLOPE_VARIANCE_FLOOR)
     s2u = np.maximum(s2u, SLOPE_VARIANCE_FLOOR)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         if wind_direction is None:
             s2 = 0.5 * (s2c + s2u)
             return np.asarray(anisotropic_gaussian_pdf(zx, zy, s2, s2), dtype=float)
+        assert phi is not None
         zc, zu = wind_frame_slopes(zx, zy, phi)
         p = anisotropic_gaussian_pdf(zc, zu, s2c, s2u)
         if distribution == "gram-charlier":
-            c = gram_charlier_coefficients(w)
+            c = gram_charlier_coefficients(w, wind_height=wind_height)
             p = p * gram_charlier_series(
                 zc / np.sqrt(s2c), zu / np.sqrt(s2u),
                 c["c21"], c["c03"], c["c40"], c["c22"], c["c04"],
@@ -503,12 +735,12 @@ def slope_pdf(
 
 
 def wind_speed_at_height(
-    wind_speed: Any,
-    height: Any,
+    wind_speed: ArrayLike,
+    height: ArrayLike,
     *,
-    target_height: Any = 10.0,
-    roughness_length: Any = ROUGHNESS_LENGTH,
-) -> np.ndarray:
+    target_height: ArrayLike = 10.0,
+    roughness_length: ArrayLike = ROUGHNESS_LENGTH,
+) -> FloatArray:
     """Convert a wind speed between heights with the logarithmic profile.
 
     Parameters
@@ -569,8 +801,8 @@ def wind_speed_at_height(
 
 
 def whitecap_fraction(
-    wind_speed: Any, *, method: WhitecapMethod = "monahan-ocmuircheartaigh"
-) -> np.ndarray:
+    wind_speed: ArrayLike, *, method: WhitecapMethod = "monahan-ocmuircheartaigh"
+) -> FloatArray:
     """Fraction of the sea surface covered by whitecaps.
 
     Parameters
@@ -621,132 +853,3 @@ def whitecap_fraction(
     else:
         f = 8.75e-5 * np.maximum(w - 6.33, 0.0) ** 3
     return np.asarray(np.clip(f, 0.0, 1.0), dtype=float)
-
-
-def _erfc_scalar(x: float) -> float:
-    return math.erfc(x)
-
-
-_ERFC = None
-
-
-def _erfc(x: np.ndarray) -> np.ndarray:
-    """Complementary error function as a numpy ufunc (compiled once)."""
-    global _ERFC
-    if _ERFC is None:
-        import numba
-
-        _ERFC = numba.vectorize(["float64(float64)"])(_erfc_scalar)
-    return _ERFC(np.asarray(x, dtype=np.float64))
-
-
-def shadowing(zenith: Any, mean_square_slope: Any) -> np.ndarray:
-    """Share of surface facets seen along a direction despite wave shadowing.
-
-    Parameters
-    ----------
-    zenith : array_like
-        Zenith angle of the direction (to the sun or to the sensor) [°] in
-        [0, 90].
-    mean_square_slope : array_like
-        Mean square slope [1] of the surface in the vertical plane of that
-        direction: for an isotropic surface half the total mean square slope,
-        ``(sigma2_crosswind + sigma2_upwind) / 2``; in general
-        ``sigma2_c sin²(a) + sigma2_u cos²(a)`` with ``a`` the azimuth of
-        the direction from the upwind axis.
-
-    Returns
-    -------
-    numpy.ndarray
-        One-way shadowing factor [1] in [0, 1]: 1 at nadir, 0 at the
-        horizon.
-
-    Raises
-    ------
-    InputError
-        Zenith outside [0, 90] or negative mean square slope.
-
-    Notes
-    -----
-    Smith (1967):
-
-    .. math::
-
-        S(\\theta) = \\frac{1 - \\tfrac12 \\operatorname{erfc}(\\nu)}{\\Lambda(\\nu) + 1},
-        \\quad \\nu = \\frac{\\cot\\theta}{\\sqrt{2\\sigma^2}},
-        \\quad \\Lambda = \\frac12\\left(\\frac{e^{-\\nu^2}}{\\nu\\sqrt\\pi}
-        - \\operatorname{erfc}(\\nu)\\right).
-
-    erfc is the standard library's ``math.erfc`` compiled into a ufunc.
-
-    References
-    ----------
-    Smith, B.G. (1967). Geometrical shadowing of a random rough surface.
-    IEEE Trans. Antennas Propag. 15(5), 668-671,
-    doi:10.1109/TAP.1967.1138991.
-
-    Examples
-    --------
-    >>> float(shadowing(0.0, 0.02))
-    1.0
-    >>> round(float(shadowing(85.0, 0.02)), 3)
-    0.579
-    """
-    theta = as_float_array(zenith, "zenith")
-    mss = as_float_array(mean_square_slope, "mean_square_slope")
-    check_range(theta, "zenith", 0.0, 90.0, unit="°")
-    check_range(mss, "mean_square_slope", 0.0, None)
-    theta, mss = np.broadcast_arrays(theta, mss)
-    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
-        t = np.radians(theta)
-        nu = np.cos(t) / np.sin(t) / np.sqrt(2.0 * mss)
-        ec = _erfc(nu)
-        lam = 0.5 * (np.exp(-nu * nu) / (nu * np.sqrt(np.pi)) - ec)
-        lam = np.where(np.isinf(nu), 0.0, lam)
-        s = (1.0 - 0.5 * ec) / (lam + 1.0)
-    s = np.where(theta == 90.0, 0.0, s)
-    return np.asarray(np.clip(s, 0.0, 1.0), dtype=float)
-
-
-def bidirectional_shadowing(
-    sun_zenith: Any, view_zenith: Any, mean_square_slope: Any
-) -> np.ndarray:
-    """Share of facets both lit by the sun and seen by the sensor.
-
-    Parameters
-    ----------
-    sun_zenith, view_zenith : array_like
-        Zenith angles [°] in [0, 90].
-    mean_square_slope : array_like
-        Mean square slope [1] in the plane of each direction (see
-        :func:`shadowing`); one value used for both.
-
-    Returns
-    -------
-    numpy.ndarray
-        :math:`S(\\theta_s) S(\\theta_v)` [1].
-
-    Raises
-    ------
-    InputError
-        As :func:`shadowing`.
-
-    Notes
-    -----
-    The product of two one-way factors treats shadowing towards the sun and
-    masking towards the sensor as independent, the simplest of the forms
-    discussed by Sancer (1969); it underestimates the visible share when
-    sun and sensor are close together (near the backscatter direction).
-
-    References
-    ----------
-    Sancer, M.I. (1969). Shadow-corrected electromagnetic scattering from a
-    randomly rough surface. IEEE Trans. Antennas Propag. 17(5), 577-585,
-    doi:10.1109/TAP.1969.1139516.
-
-    Examples
-    --------
-    >>> float(bidirectional_shadowing(0.0, 0.0, 0.02))
-    1.0
-    """
-    return shadowing(sun_zenith, mean_square_slope) * shadowing(view_zenith, mean_square_slope)

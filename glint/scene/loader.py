@@ -56,7 +56,6 @@ from glint.physics.surface import (
     SLOPE_DISTRIBUTIONS,
     SLOPE_MODELS,
     SlopeDistribution,
-    SlopeModel,
 )
 from glint.scene.model import (
     CLASS_VARIABLES,
@@ -585,7 +584,7 @@ def _build_surface(tables: Mapping[str, Mapping[str, Any]], problems: _Problems)
         wind_speed=float(sf["wind_speed"]),
         wind_direction=None if "wind_direction" not in sf else float(sf["wind_direction"]),
         wind_height=float(sf.get("wind_height", 10.0)),
-        slope_model=cast(SlopeModel, sf.get("slope_model", "cox-munk")),
+        slope_model=str(sf.get("slope_model", "cox-munk")),
         distribution=cast(SlopeDistribution, sf.get("distribution", "gaussian")),
         shadowing=bool(sf.get("shadowing", False)),
     )

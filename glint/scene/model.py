@@ -17,7 +17,7 @@ import numpy as np
 
 from glint.geo.grid import Grid
 from glint.physics.optics import IndexMethod, water_refractive_index
-from glint.physics.surface import SlopeDistribution, SlopeModel, wind_speed_at_height
+from glint.physics.surface import SlopeDistribution, wind_speed_at_height
 from glint.sensors import Sensor
 from glint.variables import DEFAULT_VARIABLES
 
@@ -74,7 +74,7 @@ class Surface:
     wind_speed: float
     wind_direction: float | None
     wind_height: float = 10.0
-    slope_model: SlopeModel = "cox-munk"
+    slope_model: str = "cox-munk"  # a name of glint.physics.surface.SLOPE_MODELS
     distribution: SlopeDistribution = "gaussian"
     shadowing: bool = False
 

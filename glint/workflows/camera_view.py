@@ -13,31 +13,60 @@ local regulations and licensed practice.
 
 from __future__ import annotations
 
-import json
-from dataclasses import dataclass, field
-from pathlib import Path
+import os
+from collections.abc import Sequence
+from dataclasses import dataclass
+from typing import Any, ClassVar
 
 import numpy as np
 
 from glint.engine import compute
-from glint.io import quicklook as plot
-from glint.io import writers as io
 from glint.errors import SensorError
+from glint.io.geojson import FootprintWriter
+from glint.io.netcdf import ClassFlags, ImageGrid, NetCDFWriter
+from glint.io.outputset import OutputSet
+from glint.io.quicklook import CAUTION, QuicklookStyle, QuicklookWriter
+from glint.scene import Scene
 from glint.sensors import FrameCamera, camera_image_geometry
-from glint.variables import CLASS_NODATA
+from glint.times import format_time
+from glint.workflows.job import GlintTally, JobResult, TimeFiles, TimeSummary, plan_outputs
 
-__all__ = ["CameraViewResult", "camera_view", "write_camera_view"]
+__all__ = ["CameraViewSummary", "CameraViewResult", "camera_view", "write_camera_view",
+           "VIEW_SCALE_MAX"]
+
+#: Fixed top of the camera-view colour scale (glint reflectance factor), so
+#: that views of different times, headings and pitches compare directly.
+VIEW_SCALE_MAX = 0.1
+
+_SUFFIXES = {"png": "_camera_view.png", "netcdf": "_camera_view.nc",
+             "footprint": "_footprint.geojson"}
+
+
+@dataclass(frozen=True)
+class CameraViewSummary(TimeSummary):
+    """Summary of the camera view of one scene time (sun angles below the
+    camera).
+
+    Adds ``pixel_step`` (every how many image pixels were computed),
+    ``footprint`` (``None`` when the footprint was written, else why it was
+    not) and ``ground_sampling_distance`` (metres from column to column and
+    from row to row at the image centre; ``None`` when the centre looks at
+    or above the horizon).
+    """
+
+    sun_at: ClassVar[str] = "below the camera"
+
+    pixel_step: int
+    footprint: str | None
+    ground_sampling_distance: tuple[float, float] | None
 
 
 @dataclass
-class CameraViewResult:
+class CameraViewResult(JobResult[CameraViewSummary]):
     """Files written by :func:`write_camera_view` and a summary per time."""
 
-    files: list[Path] = field(default_factory=list)
-    summaries: list[dict] = field(default_factory=list)
 
-
-def _kind_name(sensor) -> str:
+def _kind_name(sensor: object) -> str:
     """The scene-file ``kind`` of a sensor object."""
     from glint.sensors import SENSOR_KINDS
 
@@ -48,7 +77,7 @@ def _kind_name(sensor) -> str:
     return type(sensor).__name__
 
 
-def _camera(scene) -> FrameCamera:
+def _camera(scene: Scene) -> FrameCamera:
     cam = scene.sensor
     if not isinstance(cam, FrameCamera):
         raise SensorError(
@@ -58,7 +87,8 @@ def _camera(scene) -> FrameCamera:
     return cam
 
 
-def camera_view(scene, *, time=None, step: int = 1, variables=None):
+def camera_view(scene: Scene, *, time: Any = None, step: int = 1,
+                variables: Sequence[str] | None = None) -> Any:
     """Glint variables for every pixel of the scene's camera image.
 
     Parameters
@@ -92,12 +122,12 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
     geo = camera_image_geometry(cam, step=step)
     names = compute.check_variables(variables)
     params = compute.kernel_parameters(scene, t)
-    res = compute.compute_points(scene, t, longitude=geo.lon, latitude=geo.lat, view_zenith=geo.view_zenith, view_azimuth=geo.view_azimuth, variables=names, params=params)
+    res = compute.compute_points(scene, t, longitude=geo.lon, latitude=geo.lat,
+                                 view_zenith=geo.view_zenith, view_azimuth=geo.view_azimuth,
+                                 variables=names, params=params)
     rows = np.arange(0, cam.rows, step)
     cols = np.arange(0, cam.cols, step)
-    data = {}
-    for v in names:
-        data[v] = (("row", "col"), res[v], compute.variable_attributes(v, scene))
+    data = {v: (("row", "col"), res[v], compute.variable_attributes(v, scene)) for v in names}
     ds = xr.Dataset(
         data,
         coords={
@@ -114,145 +144,119 @@ def camera_view(scene, *, time=None, step: int = 1, variables=None):
     return ds
 
 
-#: Fixed top of the camera-view colour scale (glint reflectance factor), so
-#: that views of different times, headings and pitches compare directly.
-VIEW_SCALE_MAX = 0.1
-
-
-def _paths(outdir: Path, stem: str) -> dict[str, Path]:
+# ------------------------------------------------------------- the files
+def _netcdf_attrs(ds: Any, scene: Scene, step: int) -> dict[str, Any]:
     return {
-        "png": outdir / f"{stem}_camera_view.png",
-        "netcdf": outdir / f"{stem}_camera_view.nc",
-        "footprint": outdir / f"{stem}_footprint.geojson",
+        **ds.attrs,
+        "title": f"Sun glint in the camera image: {scene.name}",
+        "summary": "Glint variables for each pixel of a camera image; lon/lat give the point "
+                   "where each pixel's ray meets the water.",
+        "comment": CAUTION,
+        "pixel_step": int(step),
     }
 
 
-def write_camera_view(scene, outdir, *, step: int = 1, overwrite: bool = False) -> CameraViewResult:
+def _class_flags(scene: Scene) -> ClassFlags:
+    names = [n.replace(" ", "_") for n in scene.classes.names]
+    return ClassFlags(np.arange(len(names), dtype=np.uint8), names,
+                      tuple(scene.classes.thresholds), scene.classes.variable)
+
+
+def _write_netcdf(out: OutputSet, key: str, ds: Any, scene: Scene, t: np.datetime64,
+                  step: int) -> None:
+    """The camera view as CF NetCDF in image coordinates (the one NetCDF writer)."""
+    names = [str(v) for v in ds.data_vars]
+    pixels = ImageGrid(ds.row.values, ds.col.values, ds.lon.values, ds.lat.values)
+    w = out.writer(key, lambda p: NetCDFWriter(p, pixels, names, attrs=_netcdf_attrs(ds, scene, step),
+                                               time=t, class_flags=_class_flags(scene)))
+    w.write(slice(0, pixels.height), {v: ds[v].values for v in names})
+    w.close()
+
+
+def _write_png(out: OutputSet, key: str, ds: Any, scene: Scene, cam: FrameCamera,
+               summary_sun: tuple[float, float], t: np.datetime64) -> None:
+    style = QuicklookStyle(
+        title=f"{scene.name}: glint reflectance in the camera image",
+        subtitle=f"{format_time(t, 'text')}   sun zenith {summary_sun[0]:.1f}°, "
+                 f"azimuth {summary_sun[1]:.1f}°",
+        label="glint reflectance factor [1] (fixed scale)", axis_units="px",
+        vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
+    )
+    refl = ds.glint_reflectance.values
+    w = out.writer(key, lambda p: QuicklookWriter(
+        p, refl.shape, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), "glint_reflectance", style))
+    w.write(slice(0, refl.shape[0]), {"glint_reflectance": refl})
+    w.close()
+
+
+def _write_footprint(out: OutputSet, key: str, cam: FrameCamera, scene: Scene,
+                     t: np.datetime64) -> str | None:
+    """Write the footprint; returns why it was not written, or None."""
+    try:
+        lon, lat = cam.footprint()
+    except SensorError as exc:
+        out.drop(key)
+        return f"not written: {exc}"
+    props = {"scene": scene.name, "time": format_time(t), "corners": "image corners, counter-clockwise"}
+    out.writer(key, lambda p: FootprintWriter(p, lon, lat, props)).close()
+    return None
+
+
+def _ground_sampling_distance(cam: FrameCamera) -> tuple[float, float] | None:
+    try:
+        gsd = cam.ground_sampling_distance()
+    except SensorError:
+        return None  # the image centre looks at or above the horizon
+    return float(gsd[0]), float(gsd[1])
+
+
+def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCamera,
+                    step: int) -> CameraViewSummary:
+    """Compute and write the camera view of one time; returns its summary."""
+    t = files.time
+    ds = camera_view(scene, time=t, step=step)
+    tally = GlintTally(scene.classes.names)
+    tally.add(ds.glint_reflectance.values, ds.glint_class.values, np.isfinite(ds.lon.values))
+    tally.require_seen(
+        f"no pixel of the camera image sees the water (pitch={cam.pitch!r} deg, "
+        f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
+    sun = compute.sun_angles(scene, t, longitude=cam.lon, latitude=cam.lat)
+    sun_zenith, sun_azimuth = float(sun.zenith), float(sun.azimuth)
+    _write_png(out, files.key("png"), ds, scene, cam, (sun_zenith, sun_azimuth), t)
+    _write_netcdf(out, files.key("netcdf"), ds, scene, t, step)
+    footprint = _write_footprint(out, files.key("footprint"), cam, scene, t)
+    fields = TimeSummary.tallied(tally)
+    fields["unseen_pixels"] = int(ds.attrs["unseen_pixels"])
+    return CameraViewSummary(time=t, sun_zenith=sun_zenith, sun_azimuth=sun_azimuth,
+                             pixel_step=int(step), footprint=footprint,
+                             ground_sampling_distance=_ground_sampling_distance(cam), **fields)
+
+
+def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int = 1,
+                      overwrite: bool = False) -> CameraViewResult:
     """Write, per scene time, the camera-view PNG, NetCDF and footprint.
 
     Files (``<stem>`` is the scene's file stem followed by the time, as for
     maps): ``<stem>_camera_view.png`` (glint reflectance in image
     coordinates on a fixed colour scale from 0 to ``VIEW_SCALE_MAX``),
     ``<stem>_camera_view.nc`` (every variable, image coordinates, lon/lat of
-    each pixel, zlib-compressed) and ``<stem>_footprint.geojson`` (the
-    image's ground polygon; omitted when part of the image looks at or above
-    the horizon). Every file is written atomically. Existing outputs are an
-    error unless ``overwrite``; all are checked before anything is computed.
+    each pixel, CF-1.11, zlib-compressed) and ``<stem>_footprint.geojson``
+    (the image's ground polygon; omitted when part of the image looks at or
+    above the horizon). All files of all times form one output set, written
+    all or nothing. Existing outputs are an error unless ``overwrite``; all
+    are checked before anything is computed.
+
+    Raises
+    ------
+    SensorError
+        The sensor is not a camera, or no pixel sees the water.
+    OutputError
+        An output exists (without ``overwrite``) or cannot be written.
     """
     cam = _camera(scene)
-    outdir = Path(outdir)
-    plans = [(t, _paths(outdir, io.output_stem(scene, t))) for t in scene.times]
-    io.refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
-    result = CameraViewResult()
-    with io.output_directory(outdir):
-        for t, paths in plans:
-            result.summaries.append(_write_one_view(scene, cam, t, paths, step, overwrite, result.files))
-    return result
-
-
-def _write_one_view(scene, cam, t, paths: dict, step: int, overwrite: bool, files: list) -> dict:
-    """Compute and write the camera view of one time; returns its summary."""
-    ds = camera_view(scene, time=t, step=step)
-    if ds.attrs["unseen_pixels"] == ds.glint_class.size:
-        raise SensorError(
-            f"no pixel of the camera image sees the water (pitch={cam.pitch!r} deg, "
-            f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
-    summary = _summary(ds, scene, t)
-    _write_netcdf(ds, scene, paths["netcdf"], overwrite, step)
-    with io.atomic_path(paths["png"], overwrite=overwrite) as tmp:
-        time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
-        plot.quicklook(
-            ds.glint_reflectance.values, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), tmp,
-            title=f"{scene.name}: glint reflectance in the camera image",
-            subtitle=f"{time_txt} UTC   sun zenith {summary['sun_zenith']:.1f}°, "
-                     f"azimuth {summary['sun_azimuth']:.1f}°",
-            label="glint reflectance factor [1] (fixed scale)", axis_units="px",
-            vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
-        )
-    files += [paths["png"], paths["netcdf"]]
-    try:
-        lon, lat = cam.footprint()
-    except SensorError as exc:
-        summary["footprint"] = f"not written: {exc}"
-    else:
-        with io.atomic_path(paths["footprint"], overwrite=overwrite) as tmp:
-            Path(tmp).write_text(json.dumps(_footprint_geojson(lon, lat, scene, t)))
-        files.append(paths["footprint"])
-    try:
-        gsd = cam.ground_sampling_distance()
-    except SensorError:
-        pass  # the image centre looks at or above the horizon
-    else:
-        summary["ground_sampling_distance"] = (
-            f"{gsd[0]:.3g} m from column to column x {gsd[1]:.3g} m from row to row, "
-            "at the image centre")
-    return summary
-
-
-def _write_netcdf(ds, scene, path: Path, overwrite: bool, step: int) -> None:
-    """The camera view as a compressed CF NetCDF (image coordinates)."""
-    from glint._version import __version__
-
-    ds = ds.copy()
-    ds.attrs.update({
-        "Conventions": "CF-1.11, ACDD-1.3",
-        "title": f"Sun glint in the camera image: {scene.name}",
-        "summary": "Glint variables for each pixel of a camera image; lon/lat give the point "
-                   "where each pixel's ray meets the water.",
-        "source": f"glint {__version__}",
-        "history": f"{np.datetime_as_string(np.datetime64('now', 's'), unit='s')}Z glint camera-view",
-        "comment": plot.CAUTION,
-        "pixel_step": int(step),
-    })
-    ds["time"].attrs.update({"standard_name": "time", "long_name": "scene time",
-                             "units_metadata": "leap_seconds: none"})
-    encoding = {v: {"zlib": True, "complevel": 4} for v in ds.data_vars}
-    for v in ds.data_vars:
-        if ds[v].dtype == np.uint8:
-            encoding[v]["_FillValue"] = np.uint8(CLASS_NODATA)
-        else:
-            encoding[v]["_FillValue"] = np.float32(np.nan)
-    for c in ("lon", "lat"):
-        encoding[c] = {"zlib": True, "complevel": 4, "_FillValue": np.nan}
-    for c in ("row", "col"):
-        encoding[c] = {"_FillValue": None}
-    encoding["time"] = {"units": "seconds since 1970-01-01 00:00:00", "calendar": "proleptic_gregorian"}
-    with io.atomic_path(path, overwrite=overwrite) as tmp:
-        ds.to_netcdf(tmp, engine="netcdf4", encoding=encoding)
-
-
-def _footprint_geojson(lon: np.ndarray, lat: np.ndarray, scene, t) -> dict:
-    """A GeoJSON FeatureCollection of the footprint polygon, its ring counter-
-    clockwise as RFC 7946 asks for outer rings."""
-    x, y = np.asarray(lon, float), np.asarray(lat, float)
-    signed_area = 0.5 * np.sum(x * np.roll(y, -1) - np.roll(x, -1) * y)
-    if signed_area < 0:
-        x, y = x[::-1], y[::-1]
-    ring = [[float(a), float(b)] for a, b in zip(np.append(x, x[0]), np.append(y, y[0]))]
-    feature = {
-        "type": "Feature",
-        "properties": {"scene": scene.name, "time": str(np.datetime64(t, "s")) + "Z",
-                       "corners": "image corners, counter-clockwise"},
-        "geometry": {"type": "Polygon", "coordinates": [ring]},
-    }
-    return {"type": "FeatureCollection", "features": [feature]}
-
-
-def _summary(ds, scene, t) -> dict:
-    """Sun angles below the camera, largest glint, class shares, unseen pixels."""
-    cls = ds.glint_class.values
-    valid = cls != CLASS_NODATA
-    n = int(valid.sum())
-    counts = np.bincount(cls[valid].ravel(), minlength=len(scene.classes.names))
-    refl = ds.glint_reflectance.values
-    cam = scene.sensor
-    sun = compute.sun_angles(scene, t, longitude=cam.lon, latitude=cam.lat)
-    return {
-        "time": t,
-        "sun_zenith": float(sun.zenith),
-        "sun_azimuth": float(sun.azimuth),
-        "sun_at": "below the camera",
-        "max_glint_reflectance": float(np.nanmax(refl)) if np.isfinite(refl).any() else float("nan"),
-        "class_shares": {name: (float(c) / n if n else 0.0) for name, c in zip(scene.classes.names, counts)},
-        "unseen_pixels": int(ds.attrs["unseen_pixels"]),
-    }
+    plan = plan_outputs(scene, outdir, _SUFFIXES, overwrite=overwrite)
+    summaries: list[CameraViewSummary] = []
+    with plan.output_set as out:
+        for files in plan.times:
+            summaries.append(_write_one_view(out, files, scene, cam, step))
+    return CameraViewResult(files=list(out.files), summaries=summaries)

@@ -1,67 +1,311 @@
 """The main job: a scene, computed once, written as GeoTIFF, NetCDF and PNG.
 
 One pass over the grid's strips feeds every writer, so the maps of a scene
-are computed once whatever the number of formats. Every file is written
-under a temporary name and renamed into place when complete; if anything
-fails, no partial output is left behind.
+are computed once whatever the number of formats. All files of all scene
+times form one output set (:mod:`glint.io.outputset`): they are renamed into
+place together when everything is written, and a failure or a stop (Ctrl-C,
+SIGTERM) leaves none of them.
 """
 
 from __future__ import annotations
 
-import contextlib
 import logging
-from collections.abc import Callable, Sequence
-from dataclasses import dataclass, field
-from pathlib import Path
+import os
+from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
+from numpy.typing import NDArray
 
+from glint._version import __version__
 from glint.engine import compute
-from glint.io import quicklook as plot
-from glint.io import writers as io
-from glint.errors import InputError, SensorError
-from glint.scene import OUTPUT_FORMATS
+from glint.errors import InputError
+from glint.geo.grid import Grid
+from glint.io.geotiff import GeoTiffWriter
+from glint.io.naming import check_free_space
+from glint.io.netcdf import ClassFlags, NetCDFWriter
+from glint.io.outputset import OutputSet, OutputWriter
+from glint.io.quicklook import CAUTION, QuicklookStyle, QuicklookWriter
+from glint.scene import OUTPUT_FORMATS, Scene
+from glint.times import format_time
 from glint.variables import CLASS_NODATA, VARIABLES
+from glint.workflows.job import GlintTally, JobResult, TimeFiles, TimeSummary, plan_outputs
 
-__all__ = ["FORMATS", "MapResult", "write_maps"]
+__all__ = ["FORMATS", "MapSummary", "MapResult", "Strip", "write_maps", "strip_variables",
+           "class_colormap"]
 
 log = logging.getLogger(__name__)
 
 #: Output formats understood by :func:`write_maps` (those of scene files).
 FORMATS = OUTPUT_FORMATS
 
+#: One strip of a map: whole grid rows and an array per variable.
+Strip = tuple[slice, Mapping[str, NDArray[Any]]]
+
+#: Variables the summary and the quicklook need besides the written ones.
+_ALWAYS = ("glint_reflectance", "view_zenith", "glint_class")
+
+#: File-name suffix of each kind of map file.
+_SUFFIXES = {"geotiff": "_glint.tif", "classes": "_glint_class.tif", "netcdf": "_glint.nc",
+             "png": "_glint.png"}
+
+
+@dataclass(frozen=True)
+class MapSummary(TimeSummary):
+    """Summary of the maps of one scene time (sun angles at the grid centre).
+
+    Adds ``tie_point_step``: the spacing [pixels] of the tie-point lattice
+    the angles were interpolated from (0 = every pixel exact).
+    """
+
+    tie_point_step: int
+
 
 @dataclass
-class MapResult:
-    """What :func:`write_maps` wrote and a summary of the maps."""
-
-    files: list[Path] = field(default_factory=list)
-    summaries: list[dict] = field(default_factory=list)
-
-    @property
-    def summary(self) -> dict:
-        """Summary of the first time (most scenes have one)."""
-        return self.summaries[0] if self.summaries else {}
+class MapResult(JobResult[MapSummary]):
+    """What :func:`write_maps` wrote and a :class:`MapSummary` per time."""
 
 
+def strip_variables(scene: Scene, variables: Sequence[str] | None = None) -> tuple[str, ...]:
+    """Variables each strip given to :func:`write_maps` (``blocks``) must hold:
+    those written plus what the summary and the quicklook need.
 
-def _paths(outdir: Path, stem: str, formats: Sequence[str], float_vars, class_var) -> dict[str, Path]:
-    p: dict[str, Path] = {}
-    if "geotiff" in formats:
-        if float_vars:
-            p["geotiff"] = outdir / f"{stem}_glint.tif"
-        if class_var:
-            p["classes"] = outdir / f"{stem}_glint_class.tif"
-    if "netcdf" in formats:
-        p["netcdf"] = outdir / f"{stem}_glint.nc"
-    if "png" in formats:
-        p["png"] = outdir / f"{stem}_glint.png"
-    return p
+    Examples
+    --------
+    >>> from glint.scene import load_scene
+    >>> scene = load_scene("example_scenes/coastal_inlet_morning.toml")
+    >>> strip_variables(scene, ["glint_angle"])
+    ('glint_angle', 'glint_reflectance', 'view_zenith', 'glint_class')
+    """
+    names = compute.check_variables(variables or scene.outputs.variables)
+    return tuple(dict.fromkeys([*names, *_ALWAYS]))
 
 
+# ------------------------------------------------------------- the request
+@dataclass(frozen=True)
+class _Request:
+    """The checked options of one :func:`write_maps` call."""
+
+    formats: tuple[str, ...]
+    float_vars: tuple[str, ...]
+    with_classes: bool
+    cog: bool
+    needed: tuple[str, ...]
+
+    @classmethod
+    def check(cls, scene: Scene, formats: Sequence[str] | None, variables: Sequence[str] | None,
+              cog: bool | None) -> _Request:
+        fmts = tuple(formats or scene.outputs.formats)
+        bad = [f for f in fmts if f not in FORMATS]
+        if bad:
+            raise InputError(f"unknown output format(s) {bad!r}; allowed: {', '.join(FORMATS)}")
+        names = compute.check_variables(variables or scene.outputs.variables)
+        return cls(
+            formats=fmts,
+            float_vars=tuple(v for v in names if VARIABLES[v].dtype != "uint8"),
+            with_classes="glint_class" in names,
+            cog=scene.outputs.cog if cog is None else bool(cog),
+            needed=strip_variables(scene, names),
+        )
+
+    def suffixes(self) -> dict[str, str]:
+        """Kind of file -> file-name suffix, for the files this request writes."""
+        kinds = []
+        if "geotiff" in self.formats:
+            kinds += (["geotiff"] if self.float_vars else []) + (["classes"] if self.with_classes else [])
+        kinds += [f for f in ("netcdf", "png") if f in self.formats]
+        return {k: _SUFFIXES[k] for k in kinds}
+
+    def estimated_bytes(self, grid: Grid) -> int:
+        """Raw size of one time's files: a safe upper bound for the space
+        check (compressed outputs are usually several times smaller)."""
+        per_pixel = 4 * len(self.float_vars) + (1 if self.with_classes else 0)
+        copies = sum(1 for f in ("geotiff", "netcdf") if f in self.formats)
+        return grid.size * per_pixel * max(copies, 1)
+
+
+# ----------------------------------------------------------- one scene time
+@dataclass(frozen=True)
+class _TimeContext:
+    """What one scene time needs before its strips: geometry plan, kernel
+    parameters, metadata and the sun at the grid centre."""
+
+    time: np.datetime64
+    plan: compute.GeometryPlan
+    params: compute.KernelParameters
+    attrs: dict[str, Any]
+    sun_zenith: float
+    sun_azimuth: float
+
+    @classmethod
+    def build(cls, scene: Scene, t: np.datetime64) -> _TimeContext:
+        plan = compute.plan_geometry(scene, t)
+        params = compute.kernel_parameters(scene, t)
+        centre = compute.scene_center_summary(scene, t)
+        return cls(t, plan, params, compute.scene_attributes(scene, t, plan, params),
+                   float(centre["sun_zenith"]), float(centre["sun_azimuth"]))
+
+
+@dataclass(frozen=True)
+class _Feed:
+    """A writer and the variables it takes from each strip."""
+
+    writer: OutputWriter
+    variables: tuple[str, ...]
+
+    def write(self, rows: slice, strip: Mapping[str, NDArray[Any]]) -> None:
+        self.writer.write(rows, {n: strip[n] for n in self.variables})
+
+
+def _class_flags(scene: Scene) -> ClassFlags:
+    names = [n.replace(" ", "_") for n in scene.classes.names]
+    return ClassFlags(np.arange(len(names), dtype=np.uint8), names,
+                      tuple(scene.classes.thresholds), scene.classes.variable)
+
+
+def _class_tags(attrs: Mapping[str, Any], flags: ClassFlags) -> dict[str, Any]:
+    return {
+        **attrs,
+        "glint_class_names": " ".join(flags.meanings),
+        "glint_class_thresholds": " ".join(f"{x:g}" for x in np.asarray(flags.thresholds)),
+        "glint_class_variable": flags.variable,
+    }
+
+
+def _acdd(scene: Scene, attrs: Mapping[str, Any]) -> dict[str, Any]:
+    """ACDD-1.3 global attributes of a scene's NetCDF."""
+    return {
+        "title": f"Sun glint estimate: {scene.name}",
+        "summary": scene.description or (
+            "Per-pixel sun glint reflectance, normalised radiance, glint fraction and glint angle "
+            "predicted from sun position, view geometry, water optics and a wave-slope distribution."
+        ),
+        "keywords": "sun glint, sunglint angle, Cox-Munk, Fresnel reflectance, remote sensing",
+        "source": f"glint {__version__}",
+        "comment": CAUTION,
+        **attrs,
+    }
+
+
+def _axis_units(g: Grid) -> str:
+    try:
+        return str(g.crs.axis_info[0].unit_name).replace("metre", "m")
+    except (AttributeError, IndexError):
+        return ""
+
+
+def _quicklook_style(scene: Scene, ctx: _TimeContext) -> QuicklookStyle:
+    g = scene.grid
+    return QuicklookStyle(
+        title=f"{scene.name}: glint reflectance",
+        subtitle=(f"{format_time(ctx.time, 'text')}   sun zenith {ctx.sun_zenith:.1f}°, "
+                  f"azimuth {ctx.sun_azimuth:.1f}° (grid centre)"),
+        label="glint reflectance factor [1]",
+        axis_units=_axis_units(g), geographic=g.crs.is_geographic,
+    )
+
+
+def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
+                  ctx: _TimeContext) -> list[_Feed]:
+    """One writer per planned file of the time, each on its temporary path."""
+    g, comp, flags = scene.grid, scene.outputs.compression, _class_flags(scene)
+    feeds: list[_Feed] = []
+    if files.has("geotiff"):
+        feeds.append(_Feed(out.writer(files.key("geotiff"), lambda p: GeoTiffWriter(
+            p, g, request.float_vars, cog=request.cog, compress=comp, tags=ctx.attrs)),
+            request.float_vars))
+    if files.has("classes"):
+        feeds.append(_Feed(out.writer(files.key("classes"), lambda p: GeoTiffWriter(
+            p, g, ["glint_class"], cog=request.cog, compress=comp,
+            tags=_class_tags(ctx.attrs, flags),
+            colormap=class_colormap(len(scene.classes.names)))), ("glint_class",)))
+    if files.has("netcdf"):
+        nc_vars = request.float_vars + (("glint_class",) if request.with_classes else ())
+        feeds.append(_Feed(out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
+            p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags)),
+            nc_vars))
+    if files.has("png"):
+        left, bottom, right, top = g.bounds
+        feeds.append(_Feed(out.writer(files.key("png"), lambda p: QuicklookWriter(
+            p, g.shape, (left, right, bottom, top), "glint_reflectance",
+            _quicklook_style(scene, ctx))), ("glint_reflectance",)))
+    return feeds
+
+
+def _write_time(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
+                strips: Iterable[Strip], progress: Callable[[int, int], None] | None,
+                ctx: _TimeContext) -> MapSummary:
+    """Feed one time's strips to its writers; returns the time's summary."""
+    g = scene.grid
+    feeds = _open_writers(out, files, scene, request, ctx)
+    tally = GlintTally(scene.classes.names)
+    for rows, strip in strips:
+        for feed in feeds:
+            feed.write(rows, strip)
+        tally.add(strip["glint_reflectance"], strip["glint_class"],
+                  np.isfinite(strip["view_zenith"]))
+        if progress is not None:
+            progress(rows.stop, g.height)
+    # Raised inside the output set: nothing is left on disk.
+    tally.require_seen(f"the sensor sees none of the grid's {tally.unseen} pixels; check the "
+                       "sensor's position and pointing against the grid")
+    for feed in feeds:  # finish this time's files now, not at the end of the run
+        feed.writer.close()
+    return MapSummary(time=ctx.time, sun_zenith=ctx.sun_zenith, sun_azimuth=ctx.sun_azimuth,
+                      tie_point_step=int(ctx.plan.step), **MapSummary.tallied(tally))
+
+
+# ------------------------------------------------------------------ strips
+def _check_strip(strip: Any, expected_start: int, height: int,
+                 needed: Sequence[str]) -> Strip:
+    try:
+        rows, arrays = strip
+    except (TypeError, ValueError) as exc:
+        raise InputError(f"blocks must yield (row_slice, {{variable: array}}) pairs; got "
+                         f"{type(strip).__name__}") from exc
+    if not isinstance(rows, slice) or not isinstance(arrays, Mapping):
+        raise InputError(f"blocks must yield (row_slice, {{variable: array}}) pairs; got "
+                         f"({type(rows).__name__}, {type(arrays).__name__})")
+    r0, r1, step = rows.indices(height)
+    if r0 != expected_start or r1 <= r0 or step != 1:
+        raise InputError(f"blocks must cover the grid's rows in order, from 0 to {height}: "
+                         f"expected a strip starting at row {expected_start}; got {rows!r}")
+    missing = [v for v in needed if v not in arrays]
+    if missing:
+        raise InputError(f"a strip of blocks lacks variable(s) {missing!r}; compute "
+                         f"glint.workflows.maps.strip_variables(scene, variables): {list(needed)!r}")
+    return slice(r0, r1), arrays
+
+
+def _given_strips(blocks: Iterable[Any], times: int, height: int,
+                  needed: Sequence[str]) -> Iterator[Iterator[Strip]]:
+    """Split a caller's strip stream into one row-ordered pass per time."""
+    stream = iter(blocks)
+
+    def one_time(k: int) -> Iterator[Strip]:
+        start = 0
+        while start < height:
+            try:
+                strip = next(stream)
+            except StopIteration:
+                raise InputError(f"blocks ended at row {start} of {height} of time {k + 1} of "
+                                 f"{times}; give every row of every scene time") from None
+            rows, arrays = _check_strip(strip, start, height, needed)
+            start = rows.stop
+            yield rows, arrays
+
+    for k in range(times):
+        yield one_time(k)
+    extra = next(stream, None)
+    if extra is not None:
+        raise InputError(f"blocks gave more strips than the {times} scene time(s) x {height} rows")
+
+
+# --------------------------------------------------------------------- API
 def write_maps(
-    scene,
-    outdir: str | Path,
+    scene: Scene,
+    outdir: str | os.PathLike[str],
     *,
     formats: Sequence[str] | None = None,
     variables: Sequence[str] | None = None,
@@ -69,8 +313,9 @@ def write_maps(
     cog: bool | None = None,
     block_rows: int = 512,
     progress: Callable[[int, int], None] | None = None,
+    blocks: Iterable[Strip] | None = None,
 ) -> MapResult:
-    """Compute a scene's glint maps and write them.
+    """Compute a scene's glint maps and write them, all or nothing.
 
     Parameters
     ----------
@@ -87,148 +332,69 @@ def write_maps(
         raised before anything is computed.
     cog : bool, optional
         Write Cloud Optimized GeoTIFFs (default: the scene's setting).
+    block_rows : int
+        Rows per strip when the engine computes the strips.
     progress : callable(done_rows, total_rows), optional
         Called after each strip.
+    blocks : iterable of (row_slice, {variable: array}), optional
+        Strips computed elsewhere (e.g. on dask workers), replacing the
+        engine's own :func:`glint.engine.compute.iter_blocks`: for each scene
+        time in ``scene.times`` order, full-width strips covering the grid's
+        rows in order from row 0. Each strip holds at least
+        :func:`strip_variables` ``(scene, variables)``. They are written as
+        they arrive, so the stream can be lazy.
 
     Returns
     -------
     MapResult
-        The files written and, per time, a summary: sun angles at the grid
-        centre, largest glint reflectance, share of valid pixels per glint
-        class, and the number of pixels the sensor does not see.
+        The files written and a :class:`MapSummary` per time: sun angles at
+        the grid centre, largest and mean glint reflectance of the seen
+        pixels, share of classified pixels per glint class, pixels the
+        sensor does not see and the tie-point step.
 
     Raises
     ------
+    InputError
+        Unknown format or variable; ``blocks`` out of order, short, too long
+        or lacking a variable.
     OutputError
         An output exists (without ``overwrite``) or cannot be written.
+    SensorError
+        The sensor sees none of the grid (nothing is written).
+    RunStopped
+        SIGINT or SIGTERM arrived; nothing is written.
+
+    Examples
+    --------
+    Strips computed by the caller (here by the engine itself):
+
+    >>> import tempfile
+    >>> from glint.scene import load_scene
+    >>> scene = load_scene("example_scenes/coastal_inlet_morning.toml")
+    >>> names = strip_variables(scene, ["glint_reflectance"])
+    >>> strips = compute.iter_blocks(scene, variables=names)
+    >>> res = write_maps(scene, tempfile.mkdtemp(), formats=["geotiff"],
+    ...                  variables=["glint_reflectance"], blocks=strips)
+    >>> [p.name for p in res.files]
+    ['saltmarsh_reach_inlet_morning_survey_20260614T103000Z_glint.tif']
     """
-    formats = tuple(formats or scene.outputs.formats)
-    bad = [f for f in formats if f not in FORMATS]
-    if bad:
-        raise InputError(f"unknown output format(s) {bad!r}; allowed: {', '.join(FORMATS)}")
-    variables = compute.check_variables(variables or scene.outputs.variables)
-    cog = scene.outputs.cog if cog is None else bool(cog)
-    outdir = Path(outdir)
-
-    float_vars = [v for v in variables if VARIABLES[v].dtype != "uint8"]
-    class_var = "glint_class" in variables
-    # Everything computed: the requested variables plus what the PNG and the
-    # summary need.
-    needed = list(dict.fromkeys(list(variables) + ["glint_reflectance", "view_zenith", "glint_class"]))
-
-    times = scene.times
-    plans = [(t, _paths(outdir, io.output_stem(scene, t), formats, float_vars, class_var)) for t in times]
-    io.refuse_existing((p for _, paths in plans for p in paths.values()), overwrite)
-    result = MapResult()
-    with io.output_directory(outdir):
-        io.check_free_space(outdir, _estimated_bytes(scene, float_vars, class_var, formats) * len(times))
-        for t, paths in plans:
-            summary = _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog,
-                                      block_rows, progress)
-            result.summaries.append(summary)
-            result.files.extend(paths[k] for k in ("geotiff", "classes", "netcdf", "png") if k in paths)
-    return result
-
-
-
-
-
-def _estimated_bytes(scene, float_vars, class_var, formats) -> int:
-    n = scene.grid.shape[0] * scene.grid.shape[1]
-    per_pixel = 4 * len(float_vars) + (1 if class_var else 0)
-    copies = sum(1 for f in ("geotiff", "netcdf") if f in formats)
-    # Compressed outputs are usually several times smaller than raw; the raw
-    # size is a safe upper bound for the space check.
-    return n * per_pixel * max(copies, 1)
-
-
-def _write_one_time(scene, t, paths, needed, float_vars, class_var, overwrite, cog, block_rows, progress) -> dict:
+    request = _Request.check(scene, formats, variables, cog)
+    plan = plan_outputs(scene, outdir, request.suffixes(), overwrite=overwrite)
     g = scene.grid
-    plan = compute.plan_geometry(scene, t)
-    params = compute.kernel_parameters(scene, t)
-    attrs = compute.scene_attributes(scene, t, plan, params)
-    center = compute.scene_center_summary(scene, t)
-    step = plot.decimation_step(g.shape)
-    quick_rows: list[np.ndarray] = []
-    n_classes = len(scene.classes.names)
-    class_counts = np.zeros(n_classes, dtype=np.int64)
-    unseen = 0
-    max_refl = -np.inf
-    class_flags = (
-        np.arange(n_classes, dtype=np.uint8),
-        [n.replace(" ", "_") for n in scene.classes.names],
-        tuple(scene.classes.thresholds),
-    )
-    with contextlib.ExitStack() as stack:
-        writers = []
-        if "geotiff" in paths:
-            writers.append((stack.enter_context(io.GeoTiffWriter(
-                paths["geotiff"], g, float_vars, cog=cog, overwrite=overwrite,
-                compress=scene.outputs.compression, tags=attrs)), float_vars))
-        if "classes" in paths:
-            class_tags = {
-                **attrs,
-                "glint_class_names": " ".join(class_flags[1]),
-                "glint_class_thresholds": " ".join(f"{x:g}" for x in class_flags[2]),
-                "glint_class_variable": scene.classes.variable,
-            }
-            writers.append((stack.enter_context(io.GeoTiffWriter(
-                paths["classes"], g, ["glint_class"], cog=cog, overwrite=overwrite,
-                compress=scene.outputs.compression, tags=class_tags,
-                colormap=class_colormap(n_classes))), ["glint_class"]))
-        if "netcdf" in paths:
-            nc_vars = float_vars + (["glint_class"] if class_var else [])
-            writers.append((stack.enter_context(io.NetCDFWriter(
-                paths["netcdf"], g, nc_vars, attrs=_acdd(scene, t, attrs), time=t,
-                class_flags=class_flags, overwrite=overwrite)), nc_vars))
-        png_tmp = stack.enter_context(io.atomic_path(paths["png"], overwrite=overwrite)) if "png" in paths else None
-
-        for rs, block in compute.iter_blocks(scene, time=t, block_rows=block_rows, variables=needed, plan=plan,
-                                              params=params):
-            for writer, names in writers:
-                writer.write(rs, {n: block[n] for n in names})
-            refl = block["glint_reflectance"]
-            if np.any(np.isfinite(refl)):
-                max_refl = max(max_refl, float(np.nanmax(refl)))
-            class_counts += np.bincount(block["glint_class"].ravel(), minlength=CLASS_NODATA + 1)[:n_classes]
-            unseen += int(np.count_nonzero(~np.isfinite(block["view_zenith"])))
-            if png_tmp is not None:
-                first = (-rs.start) % step
-                quick_rows.append(refl[first::step, ::step])
-            if progress is not None:
-                progress(rs.stop, g.height)
-
-        if unseen == g.height * g.width:
-            # Raised inside the writers' context: nothing is left on disk.
-            raise SensorError(
-                f"the sensor sees none of the grid's {unseen} pixels; check the sensor's "
-                "position and pointing against the grid"
-            )
-        if png_tmp is not None:
-            quick = np.concatenate(quick_rows, axis=0) if quick_rows else np.zeros((1, 1))
-            left, bottom, right, top = g.bounds
-            time_txt = np.datetime_as_string(np.datetime64(t, "s"), unit="s").replace("T", " ")
-            plot.quicklook(
-                quick, (left, right, bottom, top), png_tmp,
-                title=f"{scene.name}: glint reflectance",
-                subtitle=(f"{time_txt} UTC   sun zenith {center['sun_zenith']:.1f}°, "
-                          f"azimuth {center['sun_azimuth']:.1f}° (grid centre)"),
-                label="glint reflectance factor [1]",
-                axis_units=_axis_units(g), geographic=g.crs.is_geographic,
-            )
-
-    total = int(class_counts.sum())
-    return {
-        "time": t,
-        "sun_zenith": center["sun_zenith"],
-        "sun_azimuth": center["sun_azimuth"],
-        "max_glint_reflectance": float(max_refl) if np.isfinite(max_refl) else float("nan"),
-        "class_shares": {
-            name: (float(c) / total if total else 0.0) for name, c in zip(scene.classes.names, class_counts)
-        },
-        "unseen_pixels": unseen,
-        "tie_point_step": plan.step,
-    }
+    given = None if blocks is None else _given_strips(blocks, len(plan.times), g.height,
+                                                        request.needed)
+    summaries: list[MapSummary] = []
+    with plan.output_set as out:
+        check_free_space(out.directory, request.estimated_bytes(g) * len(plan.times))
+        for files in plan.times:
+            ctx = _TimeContext.build(scene, files.time)
+            strips: Iterable[Strip] = next(given) if given is not None else compute.iter_blocks(
+                scene, time=files.time, block_rows=block_rows, variables=request.needed,
+                plan=ctx.plan, params=ctx.params)
+            summaries.append(_write_time(out, files, scene, request, strips, progress, ctx))
+        if given is not None:
+            next(given, None)  # refuses strips beyond the last time
+    return MapResult(files=list(out.files), summaries=summaries)
 
 
 def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:
@@ -243,27 +409,3 @@ def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:
         colours[k] = (int(255 * r), int(255 * gr), int(255 * b), 255)
     colours[CLASS_NODATA] = (0, 0, 0, 0)
     return colours
-
-
-def _axis_units(g) -> str:
-    try:
-        return g.crs.axis_info[0].unit_name.replace("metre", "m")
-    except (AttributeError, IndexError):
-        return ""
-
-
-def _acdd(scene, t, attrs) -> dict:
-    """ACDD-1.3 global attributes of a scene's NetCDF."""
-    from glint._version import __version__
-
-    return {
-        "title": f"Sun glint estimate: {scene.name}",
-        "summary": scene.description or (
-            "Per-pixel sun glint reflectance, normalised radiance, glint fraction and glint angle "
-            "predicted from sun position, view geometry, water optics and a wave-slope distribution."
-        ),
-        "keywords": "sun glint, sunglint angle, Cox-Munk, Fresnel reflectance, remote sensing",
-        "source": f"glint {__version__}",
-        "comment": plot.CAUTION,
-        **attrs,
-    }
