@@ -9,8 +9,8 @@ into one pass per point with no temporaries. The numpy functions of
 against them to 1e-9 degrees.
 
 Per point the fixed-position loop costs the sines and cosines of the
-longitude and latitude (from short series about a reference point of the
-batch: no library call within 0.05 rad of it), one square root for the
+longitude and latitude (from a table of multiples of 1/64 rad and short
+series: no library call), one square root for the
 ellipsoid radius and two ``atan2``
 (zenith from ``atan2(horizontal, up)``, which is accurate near the nadir
 where ``arccos`` is not, and azimuth). The line-scanner loop adds the
@@ -38,41 +38,45 @@ _R2D = 180.0 / math.pi
 FloatArray = NDArray[np.float64]
 
 
-#: Largest offset from the reference angle [rad] for which sines and cosines
-#: come from the short series of :func:`_sincos_near` (truncation below 1e-20).
-_SERIES_LIMIT = 0.05
-_S3, _S5, _S7, _S9 = 1.0 / 6.0, 1.0 / 20.0, 1.0 / 42.0, 1.0 / 72.0
-_C4, _C6, _C8, _C10 = 1.0 / 12.0, 1.0 / 30.0, 1.0 / 56.0, 1.0 / 90.0
+#: Sines and cosines of the multiples of 1/64 rad in [-2 pi, 2 pi]: the
+#: nearest one is the reference angle of :func:`_sincos_near`.
+_TABLE_SCALE = 64.0
+_TABLE_OFFSET = 403
+_TABLE_ANGLES = (np.arange(2 * _TABLE_OFFSET + 1) - _TABLE_OFFSET) / _TABLE_SCALE
+_SIN_TABLE = np.sin(_TABLE_ANGLES)
+_COS_TABLE = np.cos(_TABLE_ANGLES)
+_S3, _S5, _S7 = 1.0 / 6.0, 1.0 / 20.0, 1.0 / 42.0
+_C4, _C6, _C8 = 1.0 / 12.0, 1.0 / 30.0, 1.0 / 56.0
 
 
 @numba.njit(inline="always")
-def _sincos_near(a: float, a0: float, s0: float, c0: float) -> tuple[float, float]:  # pragma: no cover
-    """sin and cos of ``a`` [rad] from those of a nearby ``a0``:
-    ``sin(a0 + d) = sin a0 cos d + cos a0 sin d`` with the Taylor series of
-    ``sin d`` and ``cos d`` to d**9 and d**10 (truncation d**11 / 11! <
-    1e-20 for |d| <= 0.05); the library functions further away."""
-    d = a - a0
-    if abs(d) > _SERIES_LIMIT:
-        return math.sin(a), math.cos(a)
+def _sincos_near(a: float, sin_table: FloatArray,
+                 cos_table: FloatArray) -> tuple[float, float]:  # pragma: no cover
+    """sin and cos of ``a`` [rad] from those of the nearest multiple ``a0`` of
+    1/64 rad (tabulated): ``sin(a0 + d) = sin a0 cos d + cos a0 sin d`` with
+    the Taylor series of ``sin d`` and ``cos d`` to d**7 and d**8 (|d| <=
+    1/128, truncation below 1e-21). The reference depends on the angle alone,
+    so a point's result does not depend on the points computed with it."""
+    if not abs(a) < 6.28:
+        return math.sin(a), math.cos(a)  # also NaN
+    k = int(math.floor(a * _TABLE_SCALE + 0.5))
+    d = a - k / _TABLE_SCALE
+    s0 = sin_table[k + _TABLE_OFFSET]
+    c0 = cos_table[k + _TABLE_OFFSET]
     d2 = d * d
-    # Horner forms with the reciprocal factorial ratios as constants.
-    sd = d * (1.0 - d2 * _S3 * (1.0 - d2 * _S5 * (1.0 - d2 * _S7 * (1.0 - d2 * _S9))))
-    cd = 1.0 - d2 * 0.5 * (1.0 - d2 * _C4 * (1.0 - d2 * _C6 * (1.0 - d2 * _C8 * (1.0 - d2 * _C10))))
+    sd = d * (1.0 - d2 * _S3 * (1.0 - d2 * _S5 * (1.0 - d2 * _S7)))
+    cd = 1.0 - d2 * 0.5 * (1.0 - d2 * _C4 * (1.0 - d2 * _C6 * (1.0 - d2 * _C8)))
     return s0 * cd + c0 * sd, c0 * cd - s0 * sd
 
 
 @numba.njit(inline="always")
 def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
-              ref: tuple[float, float, float, float, float, float]
+              sin_table: FloatArray, cos_table: FloatArray
               ) -> tuple[float, float, float, float, float, float]:  # pragma: no cover
     """Zenith, azimuth [°] and distance of (sx, sy, sz) seen from the
-    ellipsoid point (lon, lat), plus the point's ECEF position. ``ref`` holds
-    a reference longitude and latitude [rad] near the points with their
-    sines and cosines (see :func:`_sincos_near`)."""
-    lam = lon_deg * _D2R
-    phi = lat_deg * _D2R
-    sl, cl = _sincos_near(lam, ref[0], ref[1], ref[2])
-    sp, cp = _sincos_near(phi, ref[3], ref[4], ref[5])
+    ellipsoid point (lon, lat), plus the point's ECEF position."""
+    sl, cl = _sincos_near(lon_deg * _D2R, sin_table, cos_table)
+    sp, cp = _sincos_near(lat_deg * _D2R, sin_table, cos_table)
     n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
     px = n * cp * cl
     py = n * cp * sl
@@ -94,21 +98,12 @@ def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
     return zen, azi, dist, px, py, pz
 
 
-def _reference(lon: FloatArray, lat: FloatArray) -> tuple[float, float, float, float, float, float]:
-    """A reference longitude and latitude [rad] (the middle point's) with
-    their sines and cosines."""
-    k = lon.size // 2
-    lam = math.radians(float(lon[k])) if np.isfinite(lon[k]) else 0.0
-    phi = math.radians(float(lat[k])) if np.isfinite(lat[k]) else 0.0
-    return (lam, math.sin(lam), math.cos(lam), phi, math.sin(phi), math.cos(phi))
-
-
 @numba.njit(parallel=True, cache=True)
 def _fixed_loop(lon: FloatArray, lat: FloatArray, sx: float, sy: float, sz: float,
-                horizon: bool, ref: tuple[float, float, float, float, float, float],
+                horizon: bool, sin_table: FloatArray, cos_table: FloatArray,
                 zen: FloatArray, azi: FloatArray, dist: FloatArray) -> None:  # pragma: no cover
     for i in numba.prange(lon.size):
-        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz, ref)
+        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz, sin_table, cos_table)
         if horizon and not z < 90.0:  # also NaN coordinates
             z = np.nan
             a = np.nan
@@ -133,15 +128,15 @@ def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tu
     zen, azi, dist = np.empty(lon.size), np.empty(lon.size), np.empty(lon.size)
     sx, sy, sz = (float(v) for v in position)
     if lon.size:
-        _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _reference(lon, lat), zen, azi, dist)
+        _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _SIN_TABLE, _COS_TABLE, zen, azi, dist)
     hidden = int(np.count_nonzero(np.isnan(zen)))
     return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), hidden
 
 
 @numba.njit(parallel=True, cache=True)
 def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, height: float,
-                radius: float, length: float, cos_half: float,
-                ref: tuple[float, float, float, float, float, float], zen: FloatArray, azi: FloatArray,
+                radius: float, length: float, cos_half: float, sin_table: FloatArray,
+                cos_table: FloatArray, zen: FloatArray, azi: FloatArray,
                 dist: FloatArray, scan: FloatArray, along_m: FloatArray,
                 seen: NDArray[np.bool_]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(lon.size):
@@ -153,8 +148,8 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
             along_m[i] = np.nan
             seen[i] = False
             continue
-        sl, cl = _sincos_near(lon[i] * _D2R, ref[0], ref[1], ref[2])
-        sp, cp = _sincos_near(lat[i] * _D2R, ref[3], ref[4], ref[5])
+        sl, cl = _sincos_near(lon[i] * _D2R, sin_table, cos_table)
+        sp, cp = _sincos_near(lat[i] * _D2R, sin_table, cos_table)
         n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
         px = n * cp * cl
         py = n * cp * sl
@@ -247,7 +242,7 @@ def view_from_track(longitude: FloatArray, latitude: FloatArray, *, centre: Floa
     if lon.size:
         _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
                     np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
-                    float(length), math.cos(math.radians(scan_half_angle)), _reference(lon, lat),
+                    float(length), math.cos(math.radians(scan_half_angle)), _SIN_TABLE, _COS_TABLE,
                     out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
                     out["along_track"], seen)
     res: dict[str, NDArray[np.generic]] = {k: v.reshape(shape) for k, v in out.items()}

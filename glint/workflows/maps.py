@@ -56,7 +56,8 @@ class MapSummary(TimeSummary):
     """Summary of the maps of one scene time (sun angles at the grid centre).
 
     Adds ``tie_point_step``: the spacing [pixels] of the tie-point lattice
-    the angles were interpolated from (0 = every pixel exact).
+    the sun angles (and, for sensors far from the grid, the view angles) were
+    interpolated from (0 = the sun computed at every pixel).
     """
 
     tie_point_step: int
