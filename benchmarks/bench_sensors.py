@@ -120,7 +120,7 @@ def child(kind: str, mpx: float, fmt: str, outdir: Path) -> dict:
     dt = time.perf_counter() - t0
     n = scene.grid.size
     return {"kind": kind, "format": fmt, "pixels": n, "seconds": dt, "mpx_per_s": n / dt / 1e6,
-            "peak_gb": peak_rss_gb(), "step": res.summary.get("tie_point_step"),
+            "peak_gb": peak_rss_gb(), "step": getattr(res.summary, "tie_point_step", None),
             "bytes": sum(p.stat().st_size for p in res.files)}
 
 

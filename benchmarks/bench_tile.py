@@ -74,7 +74,7 @@ def run_end_to_end(size: int, variables: list[str], outdir: Path) -> dict:
     t0 = time.perf_counter()
     res = maps.write_maps(scene, outdir, formats=["geotiff"], variables=variables, overwrite=True)
     dt = time.perf_counter() - t0
-    return {"seconds": dt, "peak_gb": _peak_gb(), "step": res.summary["tie_point_step"],
+    return {"seconds": dt, "peak_gb": _peak_gb(), "step": res.summary.tie_point_step,
             "bytes": sum(p.stat().st_size for p in res.files)}
 
 

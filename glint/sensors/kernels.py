@@ -9,8 +9,8 @@ into one pass per point with no temporaries. The numpy functions of
 against them to 1e-9 degrees.
 
 Per point the fixed-position loop costs the sines and cosines of the
-longitude and latitude (from a table of multiples of 1/64 rad and short
-series: no library call), one square root for the
+longitude and latitude (:func:`glint.physics.trig.sincos`: no library
+call), one square root for the
 ellipsoid radius and two ``atan2``
 (zenith from ``atan2(horizontal, up)``, which is accurate near the nadir
 where ``arccos`` is not, and azimuth). The line-scanner loop adds the
@@ -27,6 +27,9 @@ import numba
 import numpy as np
 from numpy.typing import NDArray
 
+from glint.physics.trig import COS_TABLE as _COS_TABLE
+from glint.physics.trig import SIN_TABLE as _SIN_TABLE
+from glint.physics.trig import sincos as _sincos_near
 from glint.validation import WGS84_A, WGS84_F
 
 __all__ = ["view_from_position", "view_from_track"]
@@ -36,37 +39,6 @@ _D2R = math.pi / 180.0
 _R2D = 180.0 / math.pi
 
 FloatArray = NDArray[np.float64]
-
-
-#: Sines and cosines of the multiples of 1/64 rad in [-2 pi, 2 pi]: the
-#: nearest one is the reference angle of :func:`_sincos_near`.
-_TABLE_SCALE = 64.0
-_TABLE_OFFSET = 403
-_TABLE_ANGLES = (np.arange(2 * _TABLE_OFFSET + 1) - _TABLE_OFFSET) / _TABLE_SCALE
-_SIN_TABLE = np.sin(_TABLE_ANGLES)
-_COS_TABLE = np.cos(_TABLE_ANGLES)
-_S3, _S5, _S7 = 1.0 / 6.0, 1.0 / 20.0, 1.0 / 42.0
-_C4, _C6, _C8 = 1.0 / 12.0, 1.0 / 30.0, 1.0 / 56.0
-
-
-@numba.njit(inline="always")
-def _sincos_near(a: float, sin_table: FloatArray,
-                 cos_table: FloatArray) -> tuple[float, float]:  # pragma: no cover
-    """sin and cos of ``a`` [rad] from those of the nearest multiple ``a0`` of
-    1/64 rad (tabulated): ``sin(a0 + d) = sin a0 cos d + cos a0 sin d`` with
-    the Taylor series of ``sin d`` and ``cos d`` to d**7 and d**8 (|d| <=
-    1/128, truncation below 1e-21). The reference depends on the angle alone,
-    so a point's result does not depend on the points computed with it."""
-    if not abs(a) < 6.28:
-        return math.sin(a), math.cos(a)  # also NaN
-    k = int(math.floor(a * _TABLE_SCALE + 0.5))
-    d = a - k / _TABLE_SCALE
-    s0 = sin_table[k + _TABLE_OFFSET]
-    c0 = cos_table[k + _TABLE_OFFSET]
-    d2 = d * d
-    sd = d * (1.0 - d2 * _S3 * (1.0 - d2 * _S5 * (1.0 - d2 * _S7)))
-    cd = 1.0 - d2 * 0.5 * (1.0 - d2 * _C4 * (1.0 - d2 * _C6 * (1.0 - d2 * _C8)))
-    return s0 * cd + c0 * sd, c0 * cd - s0 * sd
 
 
 @numba.njit(inline="always")
