@@ -58,6 +58,9 @@ PLAN_MARGIN = 0.8
 #: with the grid (a lattice of a quarter of the pixels costs more than
 #: computing the pixels). Spacings giving more nodes are skipped.
 MAX_NODES = 1 << 18
+#: A plan stops trying finer spacings when the error expected at the finest
+#: (quadratic fall with the spacing) is this many times above the bound.
+_GIVE_UP = 4.0
 #: Rows (and columns) of lattice cells whose centres are checked: every cell
 #: of lattices up to this size, this many evenly spread cells on larger ones.
 CHECK_CELLS = 400
@@ -166,7 +169,10 @@ def plan_lattice(
     A spacing is kept when the largest error is at most
     :data:`PLAN_MARGIN` ``* tolerance``. Lattices of more than
     :data:`MAX_NODES` nodes are not tried, so that planning costs bounded
-    memory whatever the grid size.
+    memory whatever the grid size; finer spacings are not tried once the
+    error expected at the finest one (falling with the square of the
+    spacing, as bilinear interpolation errors of smooth fields do) is still
+    four times over the bound.
 
     Parameters
     ----------
@@ -195,7 +201,8 @@ def plan_lattice(
         Step 0 (no lattice) when no spacing meets the tolerance.
     """
     per = frozenset(periodic)
-    for step, node_rows, node_cols in lattices(grid, steps):
+    candidates = list(lattices(grid, steps))
+    for n, (step, node_rows, node_cols) in enumerate(candidates):
         nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
         nodes = exact(nr, nc)
         if require_finite and not all(np.isfinite(v).all() for v in nodes.values()):
@@ -211,6 +218,13 @@ def plan_lattice(
             err = max(err, error(approx, exact(rr, cc)))
         if err <= PLAN_MARGIN * tolerance:
             return LatticePlan(step, node_rows, node_cols, nodes, err, per)
+        # Bilinear interpolation errors of smooth fields fall with the square
+        # of the spacing; fields that are not smooth (an azimuth around a
+        # nadir) do not improve at all. When even the finest spacing left
+        # would miss the bound by 4x on that rule, stop trying.
+        finest = min((c[0] for c in candidates[n + 1:]), default=None)
+        if finest is None or err * (finest / step) ** 2 > _GIVE_UP * PLAN_MARGIN * tolerance:
+            break
     return LatticePlan(0, None, None, {}, 0.0, per)
 
 
