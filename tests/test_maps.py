@@ -181,7 +181,7 @@ def test_all_times_are_one_set(tmp_path, example_scene, monkeypatch):
     re-run needs no overwrite."""
     scene = example_scene("open_sea_tile.toml",
                           times=["2026-06-14T09:00:00Z", "2026-06-14T10:00:00Z"])
-    real = compute.iter_blocks
+    real = compute.iter_windows
     calls = []
 
     def fail_second_time(*a, **k):
@@ -190,10 +190,10 @@ def test_all_times_are_one_set(tmp_path, example_scene, monkeypatch):
             raise RuntimeError("simulated failure")
         return real(*a, **k)
 
-    monkeypatch.setattr(compute, "iter_blocks", fail_second_time)
+    monkeypatch.setattr(compute, "iter_windows", fail_second_time)
     with pytest.raises(RuntimeError, match="simulated"):
         maps.write_maps(scene, tmp_path, formats=["geotiff", "png"], variables=["glint_reflectance"])
     assert list(tmp_path.iterdir()) == []
-    monkeypatch.setattr(compute, "iter_blocks", real)
+    monkeypatch.setattr(compute, "iter_windows", real)
     res = maps.write_maps(scene, tmp_path, formats=["geotiff", "png"], variables=["glint_reflectance"])
     assert len(res.files) == 4

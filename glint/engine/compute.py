@@ -58,6 +58,8 @@ __all__ = [
     "direction_error",
     "compute_window",
     "iter_blocks",
+    "iter_windows",
+    "WINDOW_PIXELS",
     "compute_dataset",
     "compute_points",
     "check_variables",
@@ -464,7 +466,7 @@ def classify(values: ArrayLike, thresholds: Sequence[float]) -> NDArray[np.uint8
     return out
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _classify_loop(v: NDArray[np.floating], thresholds: FloatArray,
                    out: NDArray[np.uint8]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(v.size):
@@ -614,6 +616,36 @@ def iter_blocks(
     for r0, r1 in scene.grid.blocks(block_rows):
         rs = slice(r0, r1)
         yield rs, compute_window(scene, plan, params, rs, None, variables)
+
+
+def iter_windows(
+    scene: Scene,
+    *,
+    time: Any = None,
+    block_rows: int = 512,
+    max_pixels: int = WINDOW_PIXELS,
+    variables: Sequence[str] | None = None,
+    plan: GeometryPlan | None = None,
+    params: KernelParameters | None = None,
+) -> Iterator[tuple[slice, slice, dict[str, np.ndarray]]]:
+    """Stream windows of the grid: ``(row_slice, col_slice, {name: array})``.
+
+    The strips of :func:`iter_blocks` cut into windows of at most about
+    ``max_pixels`` pixels, left to right, each as wide as a whole number of
+    ``block_rows`` (so that GeoTIFF tiles of that size are written whole):
+    memory stays the same whatever the grid's size *and* width.
+    """
+    variables = check_variables(variables)
+    t = _scene_time(scene, time)
+    plan = plan or plan_geometry(scene, t)
+    params = params or kernel_parameters(scene, t)
+    width = scene.grid.width
+    step = max(block_rows, (max_pixels // block_rows) // block_rows * block_rows)
+    for r0, r1 in scene.grid.blocks(block_rows):
+        rs = slice(r0, r1)
+        for c0 in range(0, width, step):
+            cs = slice(c0, min(c0 + step, width))
+            yield rs, cs, compute_window(scene, plan, params, rs, cs, variables)
 
 
 def compute_dataset(

@@ -267,7 +267,7 @@ def _lattice_weights(
             ic.astype(np.intp), tc.astype(np.float64))
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _bilinear_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray, ic: NDArray[np.intp],
                    tc: FloatArray, out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled
     """One pass of bilinear interpolation over the output."""
@@ -288,7 +288,7 @@ def _near(a: float, ref: float) -> float:  # pragma: no cover - compiled
     return a - 360.0 * math.floor((a - ref + 180.0) / 360.0)
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _bilinear_azimuth_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray,
                            ic: NDArray[np.intp], tc: FloatArray,
                            out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled

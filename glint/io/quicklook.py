@@ -18,7 +18,7 @@ from typing import Any
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from glint.io.strips import row_range
+from glint.io.strips import col_range, row_range
 
 __all__ = ["quicklook", "decimation_step", "QuicklookWriter", "QuicklookStyle", "CAUTION",
            "MIN_REFLECTANCE_SCALE"]
@@ -182,29 +182,38 @@ class QuicklookWriter:
         self.variable = variable
         self.style = style
         self.step = decimation_step(self.shape, max_pixels)
-        self._rows: list[NDArray[Any]] = []
+        # The decimated copy (every step-th row and column), filled as
+        # strips or windows arrive.
+        self._field: NDArray[np.float32] | None = np.full(
+            (-(-self.shape[0] // self.step), -(-self.shape[1] // self.step)), np.nan, np.float32)
         self._done = False
 
-    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike]) -> None:
-        """Keep every ``step``-th row and column of the strip's variable."""
+    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike],
+              cols: slice | Sequence[int] | None = None) -> None:
+        """Keep every ``step``-th row and column of the strip's (or window's) variable."""
         r0, r1 = row_range(rows, self.shape[0])
+        c0, c1 = col_range(cols, self.shape[1])
+        if self._field is None:
+            return
         values = np.asarray(arrays[self.variable])
-        first = (-r0) % self.step
-        self._rows.append(values[first::self.step, ::self.step])
+        fr, fc = (-r0) % self.step, (-c0) % self.step
+        part = values[fr::self.step, fc::self.step]
+        i0, j0 = (r0 + fr) // self.step, (c0 + fc) // self.step
+        self._field[i0:i0 + part.shape[0], j0:j0 + part.shape[1]] = part
 
     def close(self) -> None:
         """Draw the PNG."""
         if self._done:
             return
-        field = np.concatenate(self._rows, axis=0) if self._rows else np.full((1, 1), np.nan)
+        field = self._field if self._field is not None else np.full((1, 1), np.nan)
         s = self.style
         quicklook(field, self.extent, self.path, title=s.title, label=s.label, subtitle=s.subtitle,
                   axis_units=s.axis_units, cmap=s.cmap, vmax=s.vmax, xlabel=s.xlabel,
                   ylabel=s.ylabel, geographic=s.geographic)
         self._done = True
-        self._rows.clear()
+        self._field = None
 
     def abort(self) -> None:
         """Drop the decimated copy; the file is removed by the output set."""
-        self._rows.clear()
+        self._field = None
         self._done = True

@@ -157,7 +157,7 @@ def _observer_numpy(lat: NDArray[np.float64], lon: NDArray[np.float64],
     return (90.0 - e, azimuth, e, np.degrees(delta_p), alpha_p, hour)
 
 
-@njit(parallel=True, fastmath=False, cache=True)
+@njit(parallel=True, fastmath=False, cache=True, nogil=True)
 def _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha, delta,  # type: ignore[no-untyped-def]
                      sin_d, cos_d, sin_xi, refraction, sin_table, cos_table, zen, azi, elv,
                      dec, ra, ha):  # pragma: no cover

@@ -70,7 +70,7 @@ def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
     return zen, azi, dist, px, py, pz
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _fixed_loop(lon: FloatArray, lat: FloatArray, sx: float, sy: float, sz: float,
                 horizon: bool, sin_table: FloatArray, cos_table: FloatArray,
                 zen: FloatArray, azi: FloatArray, dist: FloatArray) -> None:  # pragma: no cover
@@ -105,7 +105,7 @@ def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tu
     return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), hidden
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, height: float,
                 radius: float, length: float, cos_half: float, sin_table: FloatArray,
                 cos_table: FloatArray, zen: FloatArray, azi: FloatArray,

@@ -13,7 +13,7 @@ import logging
 import os
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
-from typing import Any
+from typing import Any, Optional
 
 import numpy as np
 from numpy.typing import NDArray
@@ -30,7 +30,14 @@ from glint.io.quicklook import CAUTION, QuicklookStyle, QuicklookWriter
 from glint.scene import OUTPUT_FORMATS, Scene
 from glint.times import format_time
 from glint.variables import CLASS_NODATA, VARIABLES
-from glint.workflows.job import GlintTally, JobResult, TimeFiles, TimeSummary, plan_outputs
+from glint.workflows.job import (
+    GlintTally,
+    JobResult,
+    TimeFiles,
+    TimeSummary,
+    computed_ahead,
+    plan_outputs,
+)
 
 __all__ = ["FORMATS", "MapSummary", "MapResult", "Strip", "write_maps", "strip_variables",
            "class_colormap"]
@@ -42,6 +49,8 @@ FORMATS = OUTPUT_FORMATS
 
 #: One strip of a map: whole grid rows and an array per variable.
 Strip = tuple[slice, Mapping[str, NDArray[Any]]]
+#: A strip or a window of one: rows, columns (None: all), arrays.
+_Piece = tuple[slice, Optional[slice], Mapping[str, NDArray[Any]]]
 
 #: Variables the summary and the quicklook need besides the written ones.
 _ALWAYS = ("glint_reflectance", "view_zenith", "glint_class")
@@ -155,8 +164,12 @@ class _Feed:
     writer: OutputWriter
     variables: tuple[str, ...]
 
-    def write(self, rows: slice, strip: Mapping[str, NDArray[Any]]) -> None:
-        self.writer.write(rows, {n: strip[n] for n in self.variables})
+    def write(self, rows: slice, strip: Mapping[str, NDArray[Any]], cols: slice | None = None) -> None:
+        arrays = {n: strip[n] for n in self.variables}
+        if cols is None:
+            self.writer.write(rows, arrays)
+        else:
+            self.writer.write(rows, arrays, cols=cols)
 
 
 def _class_flags(scene: Scene) -> ClassFlags:
@@ -235,18 +248,19 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
 
 
 def _write_time(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
-                strips: Iterable[Strip], progress: Callable[[int, int], None] | None,
+                pieces: Iterable[_Piece], progress: Callable[[int, int], None] | None,
                 ctx: _TimeContext) -> MapSummary:
-    """Feed one time's strips to its writers; returns the time's summary."""
+    """Feed one time's strips (or windows of strips) to its writers; returns
+    the time's summary."""
     g = scene.grid
     feeds = _open_writers(out, files, scene, request, ctx)
     tally = GlintTally(scene.classes.names)
-    for rows, strip in strips:
+    for rows, cols, strip in pieces:
         for feed in feeds:
-            feed.write(rows, strip)
+            feed.write(rows, strip, cols)
         tally.add(strip["glint_reflectance"], strip["glint_class"],
                   np.isfinite(strip["view_zenith"]))
-        if progress is not None:
+        if progress is not None and (cols is None or cols.stop >= g.width):
             progress(rows.stop, g.height)
     # Raised inside the output set: nothing is left on disk.
     tally.require_seen(f"the sensor sees none of the grid's {tally.unseen} pixels; check the "
@@ -389,10 +403,16 @@ def write_maps(
         check_free_space(out.directory, request.estimated_bytes(g) * len(plan.times))
         for files in plan.times:
             ctx = _TimeContext.build(scene, files.time)
-            strips: Iterable[Strip] = next(given) if given is not None else compute.iter_blocks(
-                scene, time=files.time, block_rows=block_rows, variables=request.needed,
-                plan=ctx.plan, params=ctx.params)
-            summaries.append(_write_time(out, files, scene, request, strips, progress, ctx))
+            pieces: Iterable[_Piece]
+            if given is not None:
+                pieces = ((rows, None, strip) for rows, strip in next(given))
+            else:
+                # Windows of strips (memory independent of the grid's width),
+                # computed one ahead of the writers so both cores are busy.
+                pieces = computed_ahead(compute.iter_windows(
+                    scene, time=files.time, block_rows=block_rows, variables=request.needed,
+                    plan=ctx.plan, params=ctx.params))
+            summaries.append(_write_time(out, files, scene, request, pieces, progress, ctx))
         if given is not None:
             next(given, None)  # refuses strips beyond the last time
     return MapResult(files=list(out.files), summaries=summaries)
