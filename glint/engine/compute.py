@@ -389,12 +389,23 @@ def plan_geometry(scene: Scene, time: np.datetime64, *,
                         ground=ground)
 
 
-def _ground_fields(grid: Grid, rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
-    """Exact ground positions at pixel indices (longitude in [0, 360))."""
+#: Prefix of a sensor's own ground terms among the ground-lattice fields.
+_TERM = "term:"
+
+
+def _ground_fields(scene: Scene, rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+    """Exact ground positions at pixel indices (longitude in [0, 360)) and
+    the sensor's own smooth ground terms there."""
+    grid = scene.grid
     x, y = grid.xy(rows, cols)
     lon, lat = grid.lonlat(x, y)
     conv = grid.meridian_convergence(longitude=lon, latitude=lat)
-    return {"lon": np.mod(lon, 360.0), "lat": lat, "convergence": conv}
+    out = {"lon": np.mod(lon, 360.0), "lat": lat, "convergence": conv}
+    terms = getattr(scene.sensor, "ground_terms", None)
+    if terms is not None:
+        out.update({_TERM + k: np.asarray(v, float)
+                    for k, v in terms(longitude=lon, latitude=lat).items()})
+    return out
 
 
 def _points(grid: Grid, fields: Mapping[str, NDArray[np.floating]], rows: FloatArray,
@@ -408,9 +419,11 @@ def _points(grid: Grid, fields: Mapping[str, NDArray[np.floating]], rows: FloatA
     else:
         x, y = grid.xy(rows, cols)
     lon = np.asarray(fields["lon"], float)
+    terms = {k[len(_TERM):]: np.asarray(v, float) for k, v in fields.items() if k.startswith(_TERM)}
     return GroundPoints(x=x, y=y, lon=np.where(lon >= 180.0, lon - 360.0, lon),
                         lat=np.asarray(fields["lat"], float), row=rows, col=cols,
-                        convergence=np.asarray(fields["convergence"], float), grid=grid)
+                        convergence=np.asarray(fields["convergence"], float), grid=grid,
+                        terms=terms)
 
 
 def _plan_ground(scene: Scene, time: np.datetime64, steps: Sequence[int],
@@ -422,7 +435,7 @@ def _plan_ground(scene: Scene, time: np.datetime64, steps: Sequence[int],
     sensor = scene.sensor
 
     def exact(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
-        return {**_ground_fields(g, rows, cols), "row": rows, "col": cols}
+        return {**_ground_fields(scene, rows, cols), "row": rows, "col": cols}
 
     def error(approx: Mapping[str, NDArray[np.floating]], exact_f: Mapping[str, FloatArray]) -> float:
         rows, cols = exact_f["row"], exact_f["col"]
@@ -533,7 +546,8 @@ def _compute_chunk(scene: Scene, plan: GeometryPlan, params: KernelParameters, r
         rr, cc = np.broadcast_arrays(rows[:, None], cols[None, :])
         if plan.ground is not None:
             ground = plan.ground
-            fields = {k: ground.interpolate(k, rows, cols) for k in ("lon", "lat", "convergence")}
+            fields = {k: ground.interpolate(k, rows, cols) for k in ground.nodes
+                      if k not in ("row", "col")}
             pts = _points(scene.grid, fields, rr, cc)
         else:
             pts = GroundPoints.from_pixels(scene.grid, rr, cc)
