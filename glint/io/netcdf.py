@@ -108,11 +108,13 @@ class ImageGrid:
     def size(self) -> int:
         return self.height * self.width
 
-    def lonlat_rows(self, row_start: int,
-                    row_stop: int) -> tuple[NDArray[np.floating[Any]], NDArray[np.floating[Any]]]:
-        """Longitude and latitude of the rows ``row_start:row_stop``."""
-        return (np.asarray(self.lon)[row_start:row_stop],
-                np.asarray(self.lat)[row_start:row_stop])
+    def lonlat_rows(self, row_start: int, row_stop: int, col_start: int = 0,
+                    col_stop: int | None = None
+                    ) -> tuple[NDArray[np.floating[Any]], NDArray[np.floating[Any]]]:
+        """Longitude and latitude of the rows ``row_start:row_stop`` (and
+        columns ``col_start:col_stop``, default all)."""
+        return (np.asarray(self.lon)[row_start:row_stop, col_start:col_stop],
+                np.asarray(self.lat)[row_start:row_stop, col_start:col_stop])
 
 
 # ------------------------------------------------------------- attributes
@@ -420,10 +422,7 @@ class NetCDFWriter:
         data = strip_arrays(self.variables, arrays, (r1 - r0, c1 - c0))
         for name, a in zip(self.variables, data):
             self._nc.variables[name][r0:r1, c0:c1] = a.astype(VARIABLES[name].dtype, copy=False)
-        if (c0, c1) == (0, self.grid.width):
-            lon, lat = self.grid.lonlat_rows(r0, r1)
-        else:
-            lon, lat = self.grid.lonlat_rows(r0, r1, c0, c1)
+        lon, lat = self.grid.lonlat_rows(r0, r1, c0, c1)
         if self.lonlat:
             self._nc.variables["lat"][r0:r1, c0:c1] = lat
             self._nc.variables["lon"][r0:r1, c0:c1] = lon

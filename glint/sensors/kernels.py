@@ -22,10 +22,12 @@ track vector by algebra).
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
+from typing import Any
 
 import numba
 import numpy as np
-from numpy.typing import NDArray
+from numpy.typing import ArrayLike, NDArray
 
 from glint.physics.trig import COS_TABLE as _COS_TABLE
 from glint.physics.trig import SIN_TABLE as _SIN_TABLE
@@ -84,7 +86,7 @@ def _fixed_loop(lon: FloatArray, lat: FloatArray, sx: float, sy: float, sz: floa
         dist[i] = d
 
 
-def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tuple[float, float, float],
+def view_from_position(longitude: ArrayLike, latitude: ArrayLike, position: Sequence[ArrayLike],
                        *, horizon: bool = True) -> tuple[FloatArray, FloatArray, FloatArray, int]:
     """View zenith, azimuth [°] and distance [m] of a sensor at one ECEF
     ``position`` from ellipsoid points (height 0), and the number of points
@@ -98,7 +100,7 @@ def view_from_position(longitude: FloatArray, latitude: FloatArray, position: tu
     shape = lon.shape
     lon, lat = np.ascontiguousarray(lon).ravel(), np.ascontiguousarray(lat).ravel()
     zen, azi, dist = np.empty(lon.size), np.empty(lon.size), np.empty(lon.size)
-    sx, sy, sz = (float(v) for v in position)
+    sx, sy, sz = (float(np.asarray(v)) for v in position)
     if lon.size:
         _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _SIN_TABLE, _COS_TABLE, zen, azi, dist)
     hidden = int(np.count_nonzero(np.isnan(zen)))
@@ -185,9 +187,9 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
             scan[i] = np.nan
 
 
-def view_from_track(longitude: FloatArray, latitude: FloatArray, *, centre: FloatArray,
-                    heading: FloatArray, height: float, radius: float, length: float,
-                    scan_half_angle: float) -> dict[str, NDArray[np.generic]]:
+def view_from_track(longitude: ArrayLike, latitude: ArrayLike, *, centre: ArrayLike,
+                    heading: ArrayLike, height: float, radius: float, length: float,
+                    scan_half_angle: float) -> dict[str, NDArray[Any]]:
     """View geometry of an aircraft flying a great-circle track, from
     ellipsoid points, each seen when the aircraft is abeam of it.
 
@@ -217,6 +219,6 @@ def view_from_track(longitude: FloatArray, latitude: FloatArray, *, centre: Floa
                     float(length), math.cos(math.radians(scan_half_angle)), _SIN_TABLE, _COS_TABLE,
                     out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
                     out["along_track"], seen)
-    res: dict[str, NDArray[np.generic]] = {k: v.reshape(shape) for k, v in out.items()}
+    res: dict[str, NDArray[Any]] = {k: v.reshape(shape) for k, v in out.items()}
     res["seen"] = seen.reshape(shape)
     return res

@@ -165,11 +165,7 @@ class _Feed:
     variables: tuple[str, ...]
 
     def write(self, rows: slice, strip: Mapping[str, NDArray[Any]], cols: slice | None = None) -> None:
-        arrays = {n: strip[n] for n in self.variables}
-        if cols is None:
-            self.writer.write(rows, arrays)
-        else:
-            self.writer.write(rows, arrays, cols=cols)
+        self.writer.write(rows, {n: strip[n] for n in self.variables}, cols)
 
 
 def _class_flags(scene: Scene) -> ClassFlags:
