@@ -188,9 +188,10 @@ class GeoTiffWriter:
     num_threads : str or int, optional
         GDAL compression threads, default ``"ALL_CPUS"``.
     cache_mb : int, optional
-        GDAL block cache while writing [MB], default 64: strips and windows
+        GDAL block cache while writing [MB], default 256: strips and windows
         of whole tiles are compressed and flushed as they arrive, so memory
-        stays bounded whatever the grid size.
+        stays bounded whatever the grid size (a smaller cache makes GDAL
+        re-read more of the file when it builds the overviews).
     colormap : mapping of int to (r, g, b, a), optional
         Palette of a one-band uint8 file (GIS software shows the classes in
         these colours).
@@ -234,7 +235,7 @@ class GeoTiffWriter:
         cog: bool = False,
         tags: Mapping[str, Any] | None = None,
         num_threads: str | int = "ALL_CPUS",
-        cache_mb: int = 64,
+        cache_mb: int = 256,
         colormap: Colormap | None = None,
     ) -> None:
         self.path = Path(path)
