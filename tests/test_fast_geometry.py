@@ -237,3 +237,28 @@ def test_computed_ahead_stops_when_the_consumer_stops():
         time.sleep(0.01)
     assert threading.active_count() <= before
     assert len(produced) < 10
+
+
+# ------------------------------------------------------------ memory limit
+def test_memory_limit_refuses_before_computing(tmp_path, monkeypatch):
+    """A memory limit that cannot be met is a clear error raised before
+    anything is computed or written, not the system stopping the process."""
+    from glint.errors import MemoryLimitError
+    from glint.workflows import maps
+
+    scene = _scene(SENSORS["nadir-point"])
+    monkeypatch.setenv(compute.MEMORY_LIMIT_VARIABLE, "50")
+    with pytest.raises(MemoryLimitError, match=r"needs about [\d,]+ MiB.*GLINT_MEMORY_LIMIT_MB"):
+        maps.write_maps(scene, tmp_path / "out", formats=["geotiff"])
+    assert not (tmp_path / "out").exists() or not list((tmp_path / "out").iterdir())
+    with pytest.raises(MemoryLimitError, match="in-memory dataset"):
+        compute.compute_dataset(scene)
+    monkeypatch.setenv(compute.MEMORY_LIMIT_VARIABLE, "lots")
+    with pytest.raises(Exception, match="GLINT_MEMORY_LIMIT_MB must be a number of MiB; got 'lots'"):
+        compute.check_memory(1, "a test")
+
+
+def test_memory_needed_does_not_grow_with_the_grid():
+    small = compute.window_memory(("glint_reflectance", "glint_class"))
+    assert small == compute.window_memory(("glint_reflectance", "glint_class"))
+    assert small < 300 * 2**20

@@ -32,9 +32,9 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from glint.errors import InputError
+from glint.errors import InputError, MemoryLimitError
 from glint.geo.grid import Grid
-from glint.geo.lattice import NODE_STEPS, LatticePlan, interpolate_field, plan_lattice
+from glint.geo.lattice import MAX_NODES, NODE_STEPS, LatticePlan, interpolate_field, plan_lattice
 from glint.physics.reflect import glint_kernel
 from glint.physics.sun import SolarPosition, earth_sun_distance, solar_position, sun_solid_angle
 from glint.physics.surface import (
@@ -60,6 +60,10 @@ __all__ = [
     "iter_blocks",
     "iter_windows",
     "WINDOW_PIXELS",
+    "available_memory",
+    "check_memory",
+    "window_memory",
+    "MEMORY_LIMIT_VARIABLE",
     "compute_dataset",
     "compute_points",
     "check_variables",
@@ -662,6 +666,81 @@ def iter_windows(
             yield rs, cs, compute_window(scene, plan, params, rs, cs, variables)
 
 
+#: Environment variable capping the memory glint may use [MiB] (batch jobs on
+#: shared machines); without it, the memory the system reports available.
+MEMORY_LIMIT_VARIABLE = "GLINT_MEMORY_LIMIT_MB"
+
+
+def available_memory() -> int | None:
+    """Memory this process may still use [bytes], or None when unknown.
+
+    The smallest of: the system's available memory (``MemAvailable`` of
+    ``/proc/meminfo``), what is left under a cgroup (container) limit, what
+    is left under the process's address-space limit (``ulimit -v``), and
+    :data:`MEMORY_LIMIT_VARIABLE` (minus what the process already holds).
+    """
+    import os
+    import resource
+
+    limits: list[int] = []
+    rss = 0
+    try:
+        with open("/proc/self/statm") as f:
+            fields = f.read().split()
+        page = os.sysconf("SC_PAGE_SIZE")
+        vsize, rss = int(fields[0]) * page, int(fields[1]) * page
+        soft, _ = resource.getrlimit(resource.RLIMIT_AS)
+        if soft != resource.RLIM_INFINITY:
+            limits.append(max(soft - vsize, 0))
+    except (OSError, ValueError, IndexError, AttributeError):
+        pass
+    try:
+        with open("/proc/meminfo") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    limits.append(int(line.split()[1]) * 1024)
+                    break
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        with open("/sys/fs/cgroup/memory.max") as f:
+            cap = f.read().strip()
+        with open("/sys/fs/cgroup/memory.current") as f:
+            used = int(f.read().strip())
+        if cap != "max":
+            limits.append(max(int(cap) - used, 0))
+    except (OSError, ValueError):
+        pass
+    env = os.environ.get(MEMORY_LIMIT_VARIABLE)
+    if env:
+        try:
+            limits.append(max(int(float(env) * 2**20) - rss, 0))
+        except ValueError as exc:
+            raise InputError(f"{MEMORY_LIMIT_VARIABLE} must be a number of MiB; got {env!r}") from exc
+    return min(limits) if limits else None
+
+
+def check_memory(nbytes: int, what: str) -> None:
+    """Raise :class:`~glint.errors.MemoryLimitError` before computing when
+    ``what`` needs more memory (``nbytes``) than :func:`available_memory`."""
+    avail = available_memory()
+    if avail is not None and nbytes > avail:
+        raise MemoryLimitError(
+            f"{what} needs about {nbytes / 2**20:,.0f} MiB of memory, but only "
+            f"{avail / 2**20:,.0f} MiB are still available to this process (system, container, ulimit or "
+            f"{MEMORY_LIMIT_VARIABLE}); free memory or raise the limit")
+
+
+def window_memory(variables: Sequence[str]) -> int:
+    """Memory a streamed run of the engine needs beyond the interpreter and
+    its libraries [bytes]: three windows of the variables (one written, one
+    computed ahead, one being computed), the per-pixel temporaries of a
+    window (about 120 bytes per pixel) and the tie-point lattices. The same
+    whatever the grid's size."""
+    per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+    return 3 * WINDOW_PIXELS * per_pixel + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
+
+
 def compute_dataset(
     scene: Scene,
     *,
@@ -699,6 +778,10 @@ def compute_dataset(
     params = kernel_parameters(scene, t)
     data: dict[str, Any]
     if chunks is None:
+        check_memory(g.size * sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+                     + window_memory(variables),
+                     f"an in-memory dataset of {g.height} x {g.width} pixels (give chunks= for a "
+                     "lazy one, or write maps strip by strip)")
         data = {v: np.empty(g.shape, dtype=VARIABLES[v].dtype) for v in variables}
         for rs, block in iter_blocks(scene, time=t, variables=variables, plan=plan):
             for v in variables:

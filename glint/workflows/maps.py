@@ -397,6 +397,9 @@ def write_maps(
     summaries: list[MapSummary] = []
     with plan.output_set as out:
         check_free_space(out.directory, request.estimated_bytes(g) * len(plan.times))
+        # Refused before computing rather than stopped by the system: a
+        # streamed run needs the same memory whatever the grid's size.
+        compute.check_memory(_memory_needed(request), f"writing the maps of {scene.name!r}")
         for files in plan.times:
             ctx = _TimeContext.build(scene, files.time)
             pieces: Iterable[_Piece]
@@ -412,6 +415,20 @@ def write_maps(
         if given is not None:
             next(given, None)  # refuses strips beyond the last time
     return MapResult(files=list(out.files), summaries=summaries)
+
+
+#: GDAL's block cache while a GeoTIFF is written (GeoTiffWriter's default).
+_GDAL_CACHE = 256 * 2**20
+
+
+def _memory_needed(request: _Request) -> int:
+    """Memory a map run needs beyond the interpreter and its libraries
+    [bytes]: the engine's windows (:func:`glint.engine.compute.window_memory`),
+    GDAL's block cache when GeoTIFFs are written and the PNG's decimated copy."""
+    need = compute.window_memory(request.needed)
+    if any(k in request.suffixes() for k in ("geotiff", "classes")):
+        need += _GDAL_CACHE
+    return need + 1200 * 1200 * 4
 
 
 def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:
