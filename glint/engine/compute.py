@@ -727,8 +727,8 @@ def check_memory(nbytes: int, what: str) -> None:
     if avail is not None and nbytes > avail:
         raise MemoryLimitError(
             f"{what} needs about {nbytes / 2**20:,.0f} MiB of memory, but only "
-            f"{avail / 2**20:,.0f} MiB are still available to this process (system, container, ulimit or "
-            f"{MEMORY_LIMIT_VARIABLE}); free memory or raise the limit")
+            f"{avail / 2**20:,.0f} MiB are still available to this process (system, "
+            f"container, ulimit or {MEMORY_LIMIT_VARIABLE}); free memory or raise the limit")
 
 
 def window_memory(variables: Sequence[str]) -> int:
