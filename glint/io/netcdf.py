@@ -340,6 +340,7 @@ class NetCDFWriter:
                 v = nc.createVariable(name, self.lonlat_dtype, dims, zlib=self.complevel > 0,
                                       complevel=self.complevel or None, chunksizes=self._chunks(),
                                       fill_value=fill)
+                self._bound_cache(v)
                 v.setncatts({"standard_name": std, "long_name": std, "units": units})
             aux += ["lat", "lon"]
         if self.time is not None:
@@ -349,6 +350,15 @@ class NetCDFWriter:
                           / np.timedelta64(1, "s"))
             aux.append("time")
         return aux
+
+    def _bound_cache(self, var: Any) -> None:
+        """A chunk cache of a few chunks per variable instead of the
+        library's default of tens of MB per variable: strips and windows of
+        whole chunks write complete chunks, so memory stays flat with many
+        variables and wide grids."""
+        rows, cols = self._chunks()
+        var.set_var_chunk_cache(size=8 * rows * cols * var.dtype.itemsize, nelems=61,
+                                preemption=1.0)
 
     def _chunks(self) -> tuple[int, int]:
         return min(self.chunk_rows, self.grid.height), min(self.chunk_rows, self.grid.width)
@@ -362,6 +372,7 @@ class NetCDFWriter:
             v = self._nc.createVariable(name, dtype, self._dims(), zlib=self.complevel > 0,
                                         complevel=self.complevel or None, chunksizes=self._chunks(),
                                         fill_value=np.array(fill, dtype))
+            self._bound_cache(v)
             atts = _variable_attrs(name, self.class_flags)
             if not self.image:
                 atts["grid_mapping"] = "crs"
