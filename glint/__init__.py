@@ -36,7 +36,13 @@ if TYPE_CHECKING:  # what the lazy loader below resolves, for type checkers
     from glint.physics.surface import slope_variances
     from glint.scene import Scene, load_scene, scene_from_dict
     from glint.workflows.camera_view import camera_view, write_camera_view
+    from glint.workflows.batch import load_manifest, plan_batch, run_batch
+    from glint.workflows.imagery import align, glint_mask, mask_image, ndwi
+    from glint.workflows.imagery.correction import correct, correct_image
     from glint.workflows.maps import write_maps
+    from glint.workflows.planning import load_survey, scan_survey
+    from glint.workflows.planning.calendar import load_calendar_site, satellite_calendar, write_calendar
+    from glint.workflows.planning.plan import write_plan
 
 #: Public name -> module that defines it.
 _API: dict[str, str] = {
@@ -60,6 +66,24 @@ _API: dict[str, str] = {
     "write_maps": "glint.workflows.maps",
     "camera_view": "glint.workflows.camera_view",
     "write_camera_view": "glint.workflows.camera_view",
+    # imagery: glint on an analyst's own image
+    "align": "glint.workflows.imagery",
+    "ndwi": "glint.workflows.imagery",
+    "glint_mask": "glint.workflows.imagery",
+    "mask_image": "glint.workflows.imagery",
+    "correct": "glint.workflows.imagery.correction",
+    "correct_image": "glint.workflows.imagery.correction",
+    # planning: survey windows and satellite glint calendars
+    "load_survey": "glint.workflows.planning",
+    "scan_survey": "glint.workflows.planning",
+    "write_plan": "glint.workflows.planning.plan",
+    "load_calendar_site": "glint.workflows.planning.calendar",
+    "satellite_calendar": "glint.workflows.planning.calendar",
+    "write_calendar": "glint.workflows.planning.calendar",
+    # batch: many scenes or a tile grid on a dask cluster
+    "load_manifest": "glint.workflows.batch",
+    "plan_batch": "glint.workflows.batch",
+    "run_batch": "glint.workflows.batch",
 }
 
 __all__ = ["__version__", *_API]

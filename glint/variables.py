@@ -28,7 +28,38 @@ class Variable:
     extra: dict[str, object] = field(default_factory=dict)
 
 
+# Glint variables first: the float GeoTIFF's bands follow this order, so
+# band 1 (what GIS software shows when the file is dropped in) is the glint
+# reflectance.
 _VARS = [
+    Variable(
+        "glint_reflectance", "sun glint reflectance factor", "1",
+        comment="pi L / (E cos(sun_zenith)) of the sun's specular reflection by a "
+        "wind-roughened surface (Cox and Munk 1954, doi:10.1364/JOSA.44.000838).",
+    ),
+    Variable(
+        "glint_radiance", "normalised sun glint radiance", "sr-1",
+        comment="Glint radiance divided by the solar irradiance on a plane normal to "
+        "the sun's rays, L/E (Wang and Bailey 2001, doi:10.1364/AO.40.004790).",
+    ),
+    Variable(
+        "glint_fraction", "glint fraction", "1",
+        comment="Expected share of the pixel's visible water area whose facets reflect "
+        "part of the sun's disc towards the sensor.",
+    ),
+    Variable(
+        "glint_angle", "glint angle", "degree",
+        comment="Angle between the view direction (ground to sensor) and the direction "
+        "of specular reflection of the sun by a flat horizontal surface; 0 at the specular "
+        "point. Not the CF standard name sunglint_angle, which is the angle between the "
+        "incident and the specularly reflected beams.",
+    ),
+    Variable(
+        "glint_class", "glint class", "1", dtype="uint8",
+        comment="Glint class of the variable named in glint_class_variable: class k holds "
+        "values from glint_class_thresholds[k-1] up to glint_class_thresholds[k]; class names "
+        "in flag_meanings (NetCDF) or glint_class_names (GeoTIFF tags); 255 = no data.",
+    ),
     Variable(
         "sun_zenith", "sun zenith angle", "degree",
         standard_name="solar_zenith_angle",
@@ -51,33 +82,6 @@ _VARS = [
         standard_name="sensor_azimuth_angle",
         comment="Direction from the ground point to the sensor, measured clockwise "
         "from true north (reference direction: true north).",
-    ),
-    Variable(
-        "glint_angle", "glint angle", "degree",
-        standard_name="sunglint_angle",
-        comment="Angle between the view direction and the direction of specular "
-        "reflection of the sun by a flat horizontal surface; 0 at the specular point.",
-    ),
-    Variable(
-        "glint_reflectance", "sun glint reflectance factor", "1",
-        comment="pi L / (E cos(sun_zenith)) of the sun's specular reflection by a "
-        "wind-roughened surface (Cox and Munk 1954, doi:10.1364/JOSA.44.000838).",
-    ),
-    Variable(
-        "glint_radiance", "normalised sun glint radiance", "sr-1",
-        comment="Glint radiance divided by the solar irradiance on a plane normal to "
-        "the sun's rays, L/E (Wang and Bailey 2001, doi:10.1364/AO.40.004790).",
-    ),
-    Variable(
-        "glint_fraction", "glint fraction", "1",
-        comment="Expected share of the pixel's visible water area whose facets reflect "
-        "part of the sun's disc towards the sensor.",
-    ),
-    Variable(
-        "glint_class", "glint class", "1", dtype="uint8",
-        comment="Glint class of the variable named in glint_class_variable: class k holds "
-        "values from glint_class_thresholds[k-1] up to glint_class_thresholds[k]; class names "
-        "in flag_meanings (NetCDF) or glint_class_names (GeoTIFF tags); 255 = no data.",
     ),
 ]
 

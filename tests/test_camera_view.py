@@ -61,7 +61,7 @@ def test_pixels_above_horizon_are_empty_and_counted(tmp_path, camera_scene):
 def test_write_camera_view_files(tmp_path, example_scene):
     scene = example_scene("drone_cove_survey.toml")
     res = cv.write_camera_view(scene, tmp_path, step=20)
-    assert sorted(p.suffix for p in res.files) == [".geojson", ".nc", ".png"]
+    assert sorted(p.suffix for p in res.files) == [".geojson", ".nc", ".png", ".png", ".toml"]
     assert not [p for p in tmp_path.iterdir() if p.name.startswith(".")], "temporary files left"
     gj = json.loads(next(p for p in res.files if p.suffix == ".geojson").read_text())
     ring = gj["features"][0]["geometry"]["coordinates"][0]
@@ -177,4 +177,4 @@ def test_failure_in_second_time_leaves_no_file_of_the_first(example_scene, tmp_p
     assert not out.exists()
     monkeypatch.setattr(cv, "camera_view", real)
     res = cv.write_camera_view(scene, out, step=25)  # no --overwrite needed
-    assert len(res.files) == 6 and len(res.summaries) == 2
+    assert len(res.files) == 10 and len(res.summaries) == 2  # 2 PNGs, NetCDF, run record, footprint

@@ -114,12 +114,12 @@ def test_sun_glint_reflectance_matches_cox_munk(runner):
     rs = ((math.cos(omega) - n * ct) / (math.cos(omega) + n * ct)) ** 2
     rp = ((ct - n * math.cos(omega)) / (ct + n * math.cos(omega))) ** 2
     rho = (rs + rp) / 2
-    # Cox and Munk (1954) clean surface, wind at 12.5 m: crosswind
-    # 0.003 + 1.92e-3 U, upwind 3.16e-3 U; with the wind direction unknown
-    # the isotropic Gaussian of their sum. 10 m -> 12.5 m by the log profile
-    # with z0 = 2e-4 m (common practice).
+    # Cox and Munk (1954) clean surface, wind at 12.5 m: with the wind
+    # direction unknown, the isotropic Gaussian of their separate fit of the
+    # total mean square slope, 0.003 + 5.12e-3 U. 10 m -> 12.5 m by the log
+    # profile with z0 = 2e-4 m (common practice).
     u = 5.0 * math.log(12.5 / 2e-4) / math.log(10.0 / 2e-4)
-    s2 = (0.003 + 1.92e-3 * u) + 3.16e-3 * u
+    s2 = 0.003 + 5.12e-3 * u
     p = math.exp(-math.tan(beta) ** 2 / s2) / (math.pi * s2)
     # Reflectance factor pi L / (E cos sun_zenith), L/E = rho p / (4 cos v cos^4 beta)
     # (Cox and Munk 1954), nadir view cos v = 1.
@@ -196,7 +196,36 @@ def test_sun_wavelength_range_matches_scene(runner, value, ok):
         assert "200" in result.stderr and "2500" in result.stderr
 
 
+def test_sun_fresh_water_and_slope_model(runner):
+    base = ["sun", "--lat", "46.45", "--lon", "6.60", "--time", "2026-07-02T10:00:00Z",
+            "--view-zenith", "30", "--view-azimuth", "300"]
+    sea = runner.invoke(cli, base)
+    lake = runner.invoke(cli, [*base, "--salinity", "0", "--water-temperature", "22"])
+    assert sea.exit_code == 0 and lake.exit_code == 0, sea.output + lake.output
+    # Defaults are the scene file's: sea water at 20 degC and 35 PSU, Cox-Munk.
+    assert "20 degC, 35 PSU" in sea.output and "cox-munk slope law" in sea.output
+    assert "22 degC, 0 PSU" in lake.output
+    # Quan and Fry (1995): salt raises the index by about 0.006 at 35 PSU;
+    # the CRC Handbook's fresh water n_D = 1.3330 at 20 degC (589 nm) and
+    # 1.334-1.335 at 550 nm (normal dispersion, common practice).
+    n_sea, n_lake = _number(sea.output, "Refractive index"), _number(lake.output, "Refractive index")
+    assert 0.005 < n_sea - n_lake < 0.008
+    assert 1.333 < n_lake < 1.336
+    # Less index, less Fresnel reflectance, less glint (Born and Wolf).
+    assert _number(lake.output, "Glint reflectance") < _number(sea.output, "Glint reflectance")
+    # Another slope law changes the glint and is named in the output.
+    wu = runner.invoke(cli, [*base, "--slope-model", "wu", "--index-method", "iapws",
+                             "--salinity", "0"])
+    assert wu.exit_code == 0, wu.output
+    assert "wu slope law" in wu.output and "(iapws)" in wu.output
+    assert _number(wu.output, "Glint reflectance") != _number(lake.output, "Glint reflectance")
+
+
 @pytest.mark.parametrize("args, word", [
+    (["--lat", "10", "--lon", "0", "--salinity", "-1"], "--salinity"),
+    (["--lat", "10", "--lon", "0", "--water-temperature", "120"], "--water-temperature"),
+    (["--lat", "10", "--lon", "0", "--slope-model", "gauss"], "--slope-model"),
+    (["--lat", "10", "--lon", "0", "--index-method", "edlen"], "--index-method"),
     (["--lat", "95", "--lon", "0"], "--lat"),
     (["--lat", "10", "--lon", "0", "--wind-direction", "360"], "--wind-direction"),
     (["--lat", "10", "--lon", "0", "--view-zenith", "-1"], "--view-zenith"),
@@ -326,11 +355,11 @@ def test_map_writes_files_and_summary(runner, tmp_path, scene_file):
     assert result.exit_code == 0, result.output
     out = result.stdout
     listed = [Path(line.strip()) for line in out.splitlines() if line.startswith("  ")
-              and line.strip().endswith((".tif", ".nc", ".png"))]
-    assert len(listed) == 4
+              and line.strip().endswith((".tif", ".nc", ".png", ".toml"))]
+    assert len(listed) == 6  # two GeoTIFFs, NetCDF, two PNGs, the run record
     for path in listed:
         assert path.is_file() and path.parent == outdir
-    assert {p.suffix for p in listed} == {".tif", ".nc", ".png"}
+    assert {p.suffix for p in listed} == {".tif", ".nc", ".png", ".toml"}
     assert all(p.name.startswith("cli_test_bay") for p in listed)
     assert "Summary for 2026-06-14 10:30:00 UTC:" in out
     assert re.search(r"sun zenith \d+\.\d+ deg, azimuth \d+\.\d+ deg", out)
@@ -382,7 +411,8 @@ def test_map_format_variable_and_overrides(runner, tmp_path, scene_file):
     assert result.exit_code == 0, result.output
     files = sorted(p.name for p in outdir.iterdir())
     # Two times: one GeoTIFF each, named by the UTC time (09:30 and 10:30).
-    assert len(files) == 2 and all(f.endswith(".tif") for f in files)
+    tifs = [f for f in files if f.endswith(".tif")]
+    assert len(tifs) == 2 and len(files) == 4  # and a run record per time
     assert any("20260614T093000" in f for f in files)
     assert result.stdout.count("Summary for") == 2
     with rasterio.open(outdir / files[0]) as src:
@@ -432,4 +462,5 @@ def test_map_stopped_by_signal_leaves_nothing(tmp_path, inlet_scene_file, sig, c
     again = subprocess.run(cmd, cwd=root, capture_output=True, text=True, timeout=600,
                            env={**os.environ, "PYTHONPATH": str(root)})
     assert again.returncode == 0, again.stderr
-    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".tif", ".tif"]
+    assert sorted(p.suffix for p in out.iterdir()) == [".nc", ".png", ".png", ".tif", ".tif",
+                                                       ".toml", ".xml"]

@@ -16,11 +16,12 @@ from glint.errors import InputError, OutputError
 def test_writes_all_formats_consistently(inlet, tmp_path):
     res = maps.write_maps(inlet, tmp_path / "out")
     names = sorted(p.name for p in res.files)
-    assert len(names) == 4
+    # float and class GeoTIFFs, NetCDF, reflectance and class PNGs, run record
+    assert len(names) == 6
     assert not [p for p in (tmp_path / "out").iterdir() if p.name.startswith(".")], "temporary files left"
     tif = next(p for p in res.files if p.name.endswith("_glint.tif"))
     nc = next(p for p in res.files if p.suffix == ".nc")
-    png = next(p for p in res.files if p.suffix == ".png")
+    png = next(p for p in res.files if p.name.endswith("_glint.png"))
     assert png.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     ds = compute.compute_dataset(inlet)
     with rasterio.open(tif) as src:
@@ -79,9 +80,11 @@ def test_several_times_give_one_set_each(tmp_path, example_scene):
     scene = example_scene("open_sea_tile.toml",
                        times=["2026-06-14T09:00:00Z", "2026-06-14T10:00:00Z"])
     res = maps.write_maps(scene, tmp_path, formats=["geotiff"], variables=["glint_reflectance"])
-    assert len(res.files) == 2 and len(res.summaries) == 2
-    assert res.files[0].name != res.files[1].name
-    assert "20260614T090000Z" in res.files[0].name
+    tifs = [p for p in res.files if p.suffix == ".tif"]
+    assert len(tifs) == 2 and len(res.summaries) == 2
+    assert len([p for p in res.files if p.name.endswith("_run.toml")]) == 2
+    assert tifs[0].name != tifs[1].name
+    assert "20260614T090000Z" in tifs[0].name
 
 
 def test_file_names_carry_the_time(inlet, tmp_path):
@@ -129,6 +132,8 @@ def test_caller_strips_give_the_same_files(inlet, tmp_path):
             with rasterio.open(a) as fa, rasterio.open(b) as fb:
                 np.testing.assert_array_equal(fa.read(), fb.read())
                 assert fa.descriptions == fb.descriptions
+        elif a.suffix == ".toml":  # the run records: the same resolved scene
+            assert a.read_text() == b.read_text()
         else:
             with netCDF4.Dataset(a) as fa, netCDF4.Dataset(b) as fb:
                 for v in fa.variables:
@@ -147,6 +152,8 @@ def test_caller_strips_of_several_times(tmp_path, example_scene):
     ref = maps.write_maps(scene, tmp_path / "ref", formats=["geotiff"],
                           variables=["glint_reflectance"])
     for a, b in zip(res.files, ref.files):
+        if a.suffix != ".tif":
+            continue
         with rasterio.open(a) as fa, rasterio.open(b) as fb:
             np.testing.assert_array_equal(fa.read(), fb.read())
     assert [s.sun_zenith for s in res.summaries] == [s.sun_zenith for s in ref.summaries]
@@ -196,4 +203,4 @@ def test_all_times_are_one_set(tmp_path, example_scene, monkeypatch):
     assert list(tmp_path.iterdir()) == []
     monkeypatch.setattr(compute, "iter_windows", real)
     res = maps.write_maps(scene, tmp_path, formats=["geotiff", "png"], variables=["glint_reflectance"])
-    assert len(res.files) == 4
+    assert len(res.files) == 6  # per time: GeoTIFF, PNG, run record

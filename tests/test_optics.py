@@ -105,7 +105,7 @@ def test_fresnel_nan_and_broadcast():
 
 def test_fresnel_building_block_compiles_with_numba():
     # The kernel mirrors fresnel_amplitudes: it must compile under numba.njit.
-    numba = pytest.importorskip("numba")
+    import numba
     f = numba.njit(fresnel_amplitudes)
     ci = np.cos(np.radians(40.0))
     assert f(ci, 1.34) == pytest.approx(fresnel_amplitudes(ci, 1.34), rel=1e-12)
@@ -143,8 +143,9 @@ def test_fresnel_bad_input(kwargs, match):
 # ------------------------------------------------------ refractive index
 
 # IAPWS R9-97 check values (T [K], rho [kg m-3], lambda [µm], n vs vacuum), as
-# reproduced in third-party implementations of the release (the table was not
-# read in the release itself); all three agree with our formula to 1e-8.
+# reproduced in third-party implementations of the release (the documented
+# examples of the iapws package on PyPI, citing the release); the table was
+# not read in the release itself. All three agree with our formula to 1e-8.
 IAPWS_R9_97_CHECK = [
     (298.15, 997.047435, 0.2265, 1.39277824),
     (298.15, 997.047435, 0.5893, 1.33285819),

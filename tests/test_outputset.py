@@ -8,6 +8,7 @@ import signal
 import subprocess
 import sys
 import textwrap
+import time
 from pathlib import Path
 
 import pytest
@@ -81,6 +82,9 @@ def test_bad_file_names_refused(tmp_path, name):
 
 
 def test_missing_parent_refused_unless_parents(tmp_path):
+    # refused by check(), which workflows call before any work
+    with pytest.raises(OutputError, match="parent does not exist"):
+        OutputSet(tmp_path / "x" / "y", {"a": "a.txt"}).check()
     with pytest.raises(OutputError, match="parent does not exist"):
         with OutputSet(tmp_path / "x" / "y", {"a": "a.txt"}):
             pass
@@ -104,6 +108,22 @@ def test_stale_temporaries_of_dead_processes_are_removed(tmp_path):
         p.write_text("x")
     assert clean_stale(tmp_path) == [dead]
     assert _names(tmp_path) == sorted([alive.name, foreign.name])
+
+
+def test_temporaries_of_an_unreaped_process_are_stale(tmp_path):
+    # A killed process whose parent has not reaped it yet (a zombie) still
+    # answers kill(pid, 0) but writes nothing any more.
+    proc = subprocess.Popen([sys.executable, "-c", "pass"])
+    try:
+        deadline = 0
+        while not outputset._is_zombie(proc.pid) and deadline < 200:
+            time.sleep(0.05)
+            deadline += 1
+        tmp = tmp_path / f"{TEMP_PREFIX}{outputset._HOST}-{proc.pid}-abcd1234-a.txt"
+        tmp.write_text("x")
+        assert clean_stale(tmp_path) == [tmp]
+    finally:
+        proc.wait()
 
 
 def test_journal_of_a_killed_commit_is_completed(tmp_path):

@@ -124,7 +124,7 @@ sun_elevation = [20.0, 60.0]
     assert r.returncode == 0, r.stderr
     assert r.stdout.count(PLAN_CAUTION) == 2 and "window(s)" in r.stdout
     h = _run("plan", "--help")
-    assert "glint plan example_scenes/survey_selkie_cove.toml -o selkie-plan" in h.stdout
+    assert "glint plan example_scenes/planning/survey_selkie_cove.toml -o selkie-plan" in h.stdout
     bad = p.read_text().replace('timezone = "Europe/Lisbon"', 'timezone = "Europe/Lisbn"')
     p.write_text(bad)
     r = _run("plan", str(p), "-o", str(tmp_path / "out2"))
@@ -167,7 +167,7 @@ def test_calendar_rows_and_view_geometry(tmp_path):
 
 
 def test_cli_calendar(tmp_path):
-    r = _run("calendar", "example_scenes/calendar_skerrow_bank.toml", "-o", str(tmp_path / "c"))
+    r = _run("calendar", "example_scenes/planning/calendar_skerrow_bank.toml", "-o", str(tmp_path / "c"))
     assert r.returncode == 0, r.stderr
     assert PLAN_CAUTION in r.stdout and "overpass day(s)" in r.stdout
     assert (tmp_path / "c" / "calendar.png").is_file()

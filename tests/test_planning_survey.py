@@ -184,7 +184,7 @@ def test_bad_wind_files(tmp_path):
 def test_example_survey_loads():
     from pathlib import Path
 
-    s = load_survey(Path(__file__).resolve().parents[1] / "example_scenes" / "survey_selkie_cove.toml")
+    s = load_survey(Path(__file__).resolve().parents[1] / "example_scenes" / "planning" / "survey_selkie_cove.toml")
     assert s.timezone == "Europe/London" and len(s.headings) == 12 and len(s.pitches) == 3
 
 

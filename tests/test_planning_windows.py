@@ -61,11 +61,11 @@ def _fresnel(omega, n):
 def _edge_sun_zenith(view_zenith_deg, wind10, n, threshold):
     """Largest sun zenith at which a point seen at ``view_zenith`` on the sun's
     side still glints above ``threshold``: Cox and Munk's (1954) isotropic
-    Gaussian of slopes with the clean-surface variance (0.003 + 5.08e-3 W)/2
+    Gaussian of slopes with their isotropic clean-surface fit (0.003 + 5.12e-3 W)/2
     per axis, W at 12.5 m from a log profile with z0 = 2e-4 m (common
     practice), and R = pi rho p / (4 cos(view) cos(sun) cos^4(beta))."""
     w125 = wind10 * math.log(12.5 / 2e-4) / math.log(10.0 / 2e-4)
-    s2 = (0.003 + 1.92e-3 * w125 + 3.16e-3 * w125) / 2.0
+    s2 = (0.003 + 5.12e-3 * w125) / 2.0
     tv = math.radians(view_zenith_deg)
 
     def excess(ts):
@@ -230,7 +230,7 @@ def test_lattice_shares_agree_with_every_pixel():
         full = float(np.mean(camera_view(scene, time=t, variables=["glint_reflectance"])
                              .glint_reflectance.values > 0.02))
         params = compute.kernel_parameters(scene, t)
-        sun = compute.sun_angles(scene, t, s.latitude, s.longitude)
+        sun = compute.sun_angles(scene, t, longitude=s.longitude, latitude=s.latitude)
         geo = pose_geometry(s, headings=[heading], pitches=[pitch])
         share = photo_glint_shares(sun.zenith, sun.azimuth, geo, threshold=0.02, params=params)[0, 0, 0]
         worst = max(worst, abs(share - full))

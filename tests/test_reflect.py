@@ -40,11 +40,11 @@ def fresnel_snell(theta_deg, n):
 
 
 def cox_munk_total_mss(wind_speed):
-    # Cox and Munk (1954), clean surface, doi:10.1364/JOSA.44.000838:
-    # crosswind 0.003 + 1.92e-3 W plus upwind 3.16e-3 W. (Their separate fit
-    # of the total, 0.003 + 5.12e-3 W, differs from this sum by < 1 %; the
-    # isotropic density uses the sum of the component laws.)
-    return 0.003 + 1.92e-3 * wind_speed + 3.16e-3 * wind_speed
+    # Cox and Munk (1954), clean surface, doi:10.1364/JOSA.44.000838: their
+    # separate fit of the total mean square slope, 0.003 + 5.12e-3 W (W at
+    # 12.5 m), which the isotropic density uses when the wind direction is
+    # unknown (not the sum of the component laws, 0.003 + 5.08e-3 W).
+    return 0.003 + 5.12e-3 * wind_speed
 
 
 def random_angles(rng, n, dtype=np.float64):
@@ -60,7 +60,8 @@ def random_angles(rng, n, dtype=np.float64):
 
 
 def kernel_params(wind_speed, wind_direction=None, distribution="gaussian", shadowing=False):
-    c, u = surface.slope_variances(wind_speed, wind_height=12.5)
+    # As the engine: the isotropic fit when the wind direction is unknown.
+    c, u = surface.slope_variances(wind_speed, wind_height=12.5, isotropic=wind_direction is None)
     kw = {
         "refractive_index": N_WATER,
         "sigma2_crosswind": float(c),

@@ -13,10 +13,12 @@ from scipy import integrate, special
 
 from glint.errors import InputError, ValidityWarning
 from glint.physics.surface import (
+    SLOPE_MODEL_REGISTRY,
     SLOPE_MODEL_WIND_HEIGHT,
     SLOPE_MODELS,
     anisotropic_gaussian_pdf,
     bidirectional_shadowing,
+    cox_munk_clean_isotropic,
     gram_charlier_coefficients,
     gram_charlier_series,
     shadowing,
@@ -40,7 +42,30 @@ def test_cox_munk_clean_laws():
     np.testing.assert_allclose(u, 3.16e-3 * WINDS, rtol=1e-12)
     # The published total 0.003 + 5.12e-3 W is a separate fit; the components sum to
     # 0.003 + 5.08e-3 W, within 1 % of it over 1-14 m/s.
-    np.testing.assert_allclose(c + u, 0.003 + 5.12e-3 * WINDS, rtol=1e-2)
+    np.testing.assert_allclose(c + u, 0.003 + 5.08e-3 * WINDS, rtol=1e-12)
+
+
+def test_cox_munk_isotropic_law():
+    # Cox and Munk (1954), JOSA 44(11) 838-850, clean surface: the total mean
+    # square slope is fitted separately as 0.003 + 5.12e-3 W (W at 12.5 m).
+    # Without a wind direction glint uses that fit, in two equal halves.
+    c, u = slope_variances(WINDS, wind_height=12.5, isotropic=True)
+    np.testing.assert_allclose(c + u, 0.003 + 5.12e-3 * WINDS, rtol=1e-12)
+    np.testing.assert_array_equal(c, u)
+    # The registry records it; models without a separate fit split their sum.
+    assert SLOPE_MODEL_REGISTRY["cox-munk"].isotropic is cox_munk_clean_isotropic
+    bc, bu = slope_variances(WINDS, model="breon-henriot")
+    ic, iu = slope_variances(WINDS, model="breon-henriot", isotropic=True)
+    np.testing.assert_allclose(ic + iu, bc + bu, rtol=1e-12)
+    # From a 10 m wind: converted to 12.5 m first (Stull 1988 log profile).
+    w125 = wind_speed_at_height(8.0, 10.0, target_height=12.5)
+    c10, u10 = slope_variances(8.0, isotropic=True)
+    assert float(c10 + u10) == pytest.approx(0.003 + 5.12e-3 * float(w125), rel=1e-12)
+
+
+def test_isotropic_flag_must_be_boolean():
+    with pytest.raises(InputError, match="isotropic must be True or False; got 'yes'"):
+        slope_variances(5.0, isotropic="yes")
 
 
 def test_cox_munk_slick_laws():
@@ -66,7 +91,8 @@ def test_breon_henriot_laws():
 
 def test_wu_regimes():
     # Wu (1990): total mss 1e-2 (0.90 ln U + 1.20) at light wind and
-    # 1e-2 (6.0 ln U - 8.4) at strong wind (from memory).
+    # 1e-2 (6.0 ln U - 8.4) at strong wind (from memory); the regime break
+    # near U10 = 7 m/s is stated in the paper's abstract.
     c, u = slope_variances(np.array([2.0, 4.0, 10.0, 15.0]), model="wu")
     total = c + u
     np.testing.assert_allclose(total[:2], 1e-2 * (0.90 * np.log([2.0, 4.0]) + 1.20), rtol=1e-12)
@@ -154,7 +180,7 @@ def test_gram_charlier_series_at_origin():
 
 
 def test_building_blocks_compile_with_numba():
-    numba = pytest.importorskip("numba")
+    import numba
     args = (0.3, -0.5, -0.08, -0.29, 0.4, 0.12, 0.23)
     assert numba.njit(gram_charlier_series)(*args) == pytest.approx(gram_charlier_series(*args))
     assert numba.njit(anisotropic_gaussian_pdf)(0.1, 0.05, 0.02, 0.03) == pytest.approx(
@@ -192,9 +218,10 @@ def _grid_moments(wind, wind_direction, distribution="gaussian", model="cox-munk
 
 @pytest.mark.parametrize("wind", [2.0, 7.0, 13.0])
 def test_isotropic_pdf_integrates(wind):
-    # Normalisation and variance: each axis carries (sigma_c^2 + sigma_u^2)/2 (Cox and Munk 1954).
+    # Normalisation and variance: each axis carries half of Cox and Munk's (1954)
+    # isotropic total 0.003 + 5.12e-3 W (W at 12.5 m).
     m = _grid_moments(wind, None)
-    c, u = slope_variances(wind, wind_height=12.5)
+    c = u = 0.5 * (0.003 + 5.12e-3 * wind)  # _grid_moments passes the wind at 12.5 m
     assert m["total"] == pytest.approx(1.0, abs=1e-6)
     assert m["xx"] == pytest.approx(0.5 * (c + u), rel=1e-5)
     assert m["yy"] == pytest.approx(0.5 * (c + u), rel=1e-5)

@@ -13,7 +13,7 @@ __all__ = ["calendar_command"]
 
 _EPILOG = """\b
 Examples:
-  glint calendar example_scenes/calendar_skerrow_bank.toml -o skerrow-calendar
+  glint calendar example_scenes/planning/calendar_skerrow_bank.toml -o skerrow-calendar
   glint calendar site.toml -o calendar --overwrite
 
 \b

@@ -6,7 +6,6 @@ from pathlib import Path
 
 import click
 
-from glint.io.quicklook import CAUTION
 from glint.cli.options import (
     condition_options,
     load_with_overrides,
@@ -14,13 +13,12 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
-from glint.cli.report import echo_files, echo_summaries
+from glint.cli.progress import command_line, notice_compiling
+from glint.cli.report import echo_cautions, echo_files, echo_summaries, quiet_level
+from glint.io.quicklook import FLIGHT_CAUTION
+from glint.workflows.job import run_cautions
 
 __all__ = ["camera_view_command", "FLIGHT_CAUTION"]
-
-#: Printed after every camera-view run.
-FLIGHT_CAUTION = ("Fly only where and when local aviation rules allow, under licensed practice; "
-                  "a glint forecast is no flight clearance.")
 
 _EPILOG = """\b
 Examples:
@@ -38,15 +36,16 @@ stopped by SIGTERM; a stopped run leaves no partial set of outputs.
 @click.command("camera-view", epilog=_EPILOG)
 @scene_argument
 @output_option
-@click.option("--step", type=click.IntRange(min=1), default=1, show_default=True,
-              help="Compute every STEP-th image pixel in both directions.")
+@click.option("--step", type=click.IntRange(min=1), default=None,
+              help="Compute every STEP-th image pixel in both directions. Default: a preview "
+                   "whose long side is about 1000 pixels; --step 1 computes every pixel.")
 @overwrite_option
 @condition_options
 @click.option("--heading", type=float, metavar="DEG",
               help="Override sensor.heading [deg clockwise from true north].")
 @click.option("--pitch", type=float, metavar="DEG",
               help="Override sensor.pitch [deg; 0 horizontal, -90 straight down].")
-def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bool,
+def camera_view_command(scene_file: Path, outdir: Path, step: int | None, overwrite: bool,
                         wind_speed: float | None, wind_direction: float | None,
                         times: tuple[str, ...], heading: float | None,
                         pitch: float | None) -> None:
@@ -61,11 +60,9 @@ def camera_view_command(scene_file: Path, outdir: Path, step: int, overwrite: bo
 
     scene = load_with_overrides(scene_file, wind_speed, wind_direction, times,
                                 **{"sensor.heading": heading, "sensor.pitch": pitch})
-    result = write_camera_view(scene, outdir, step=step, overwrite=overwrite)
+    notice_compiling(quiet_level())
+    result = write_camera_view(scene, outdir, step=step, overwrite=overwrite,
+                               command=command_line())
     echo_files(result.files)
     echo_summaries(result.summaries)
-    click.echo(CAUTION)
-    from glint.sensors import FixedCamera
-
-    if not isinstance(scene.sensor, FixedCamera):  # a drone, not a shore or mast camera
-        click.echo(FLIGHT_CAUTION)
+    echo_cautions(run_cautions(scene))

@@ -69,13 +69,17 @@ class _GlintGroup(click.Group):
 @click.group(cls=_GlintGroup, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(__version__, prog_name="glint")
 @click.option("-v", "--verbose", count=True, help="More log output (repeatable).")
-@click.option("-q", "--quiet", count=True, help="Less log output (repeatable).")
-def cli(verbose: int, quiet: int) -> None:
+@click.option("-q", "--quiet", count=True,
+              help="Less output (repeatable): -q a one-line summary per time and no progress "
+                   "bar, -qq also no file list. Warnings and cautions are always shown.")
+@click.pass_context
+def cli(ctx: click.Context, verbose: int, quiet: int) -> None:
     """Predict sun glint on water, pixel by pixel, as GIS rasters.
 
     Glint maps are statistical estimates, not safety clearances. Never look at
     the sun or at its reflection on water.
     """
+    ctx.ensure_object(dict)["quiet"] = int(quiet)
     warnings.showwarning = _show_warning
     level = logging.WARNING - 10 * verbose + 10 * quiet
     logging.basicConfig(level=max(logging.DEBUG, min(level, logging.CRITICAL)),
@@ -83,8 +87,11 @@ def cli(verbose: int, quiet: int) -> None:
 
 
 def _register() -> None:
+    from glint.cli.batch import batch_command
     from glint.cli.calendar import calendar_command
     from glint.cli.camera_view import camera_view_command
+    from glint.cli.correct import correct_command
+    from glint.cli.mask import mask_command
     from glint.cli.plan import plan_command
     from glint.cli.map import map_command
     from glint.cli.sun import sun_command
@@ -94,6 +101,9 @@ def _register() -> None:
     cli.add_command(sun_command)
     cli.add_command(plan_command)
     cli.add_command(calendar_command)
+    cli.add_command(mask_command)
+    cli.add_command(correct_command)
+    cli.add_command(batch_command)
 
 
 _register()

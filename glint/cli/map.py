@@ -14,8 +14,8 @@ from glint.cli.options import (
     overwrite_option,
     scene_argument,
 )
-from glint.cli.report import echo_files, echo_summaries
-from glint.io.quicklook import CAUTION
+from glint.cli.progress import RowProgress, command_line, notice_compiling
+from glint.cli.report import echo_cautions, echo_files, echo_summaries, quiet_level
 from glint.scene import OUTPUT_FORMATS
 from glint.variables import VARIABLES
 
@@ -46,7 +46,8 @@ partial set of outputs.
 @click.option("--variable", "variables", multiple=True, type=click.Choice(list(VARIABLES)),
               metavar="NAME",
               help="Variable to write (repeatable): " + ", ".join(VARIABLES)
-              + ". Default: the scene's outputs.variables.")
+              + ". Default: the scene's outputs.variables. With --format png, each variable "
+              "named gets its own quicklook (glint_class: the class map with its legend).")
 @overwrite_option
 @click.option("--cog/--no-cog", default=None,
               help="Write Cloud Optimized GeoTIFFs. Default: the scene's outputs.cog.")
@@ -61,13 +62,18 @@ def map_command(scene_file: Path, outdir: Path, formats: tuple[str, ...],
     the glint classes, a CF-NetCDF file and a PNG quicklook (as selected),
     then prints the files and a short summary.
     """
+    from glint.workflows.job import run_cautions
     from glint.workflows.maps import write_maps
 
+    quiet = quiet_level()
     scene = load_with_overrides(scene_file, wind_speed, wind_direction, times)
     log.info("scene %r: %d time(s), grid %s x %s", scene.name, len(scene.times),
              *scene.grid.shape)
-    result = write_maps(scene, outdir, formats=formats or None, variables=variables or None,
-                        overwrite=overwrite, cog=cog)
+    notice_compiling(quiet)
+    with RowProgress(pixels=scene.grid.size, label="glint map", quiet=quiet) as progress:
+        result = write_maps(scene, outdir, formats=formats or None, variables=variables or None,
+                            overwrite=overwrite, cog=cog, progress=progress,
+                            command=command_line())
     echo_files(result.files)
     echo_summaries(result.summaries)
-    click.echo(CAUTION)
+    echo_cautions(run_cautions(scene))

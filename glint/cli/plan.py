@@ -13,7 +13,7 @@ __all__ = ["plan_command"]
 
 _EPILOG = """\b
 Examples:
-  glint plan example_scenes/survey_selkie_cove.toml -o selkie-plan
+  glint plan example_scenes/planning/survey_selkie_cove.toml -o selkie-plan
   glint plan survey.toml -o plan --preview-time 2026-07-01T08:30:00+01:00
   glint plan survey.toml -o plan --overwrite
 

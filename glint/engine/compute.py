@@ -45,6 +45,7 @@ from glint.physics.surface import (
 )
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
 from glint.sensors import GroundPoints, ViewAngles
+from glint.times import format_time
 from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
 
 if TYPE_CHECKING:
@@ -54,6 +55,7 @@ __all__ = [
     "GeometryPlan",
     "KernelParameters",
     "kernel_parameters",
+    "surface_kernel_parameters",
     "plan_geometry",
     "direction_error",
     "compute_window",
@@ -123,14 +125,19 @@ class GeometryPlan:
 
 def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
     """Scene-wide kernel inputs (optics, slope statistics, sun disc) at ``time``."""
-    return _kernel_parameters(scene.surface, scene.water, time)
+    return surface_kernel_parameters(scene.surface, scene.water, time)
 
 
-def _kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+def surface_kernel_parameters(surf: Surface, water: Water, time: np.datetime64) -> KernelParameters:
+    """Kernel inputs from a surface and water description alone (no grid or
+    sensor), for workflows that evaluate the kernel at their own points."""
     # Calm water: the variances are floored as in surface.slope_pdf, so a
     # zero wind gives a very narrow glint instead of a division by zero.
+    # Without a wind direction, the model's own isotropic fit in two equal
+    # halves (Cox and Munk's 0.003 + 5.12e-3 W for "cox-munk").
     s2c, s2u = (max(float(v), SLOPE_VARIANCE_FLOOR) for v in slope_variances(
-        surf.wind_speed, model=surf.slope_model, wind_height=surf.wind_height))
+        surf.wind_speed, model=surf.slope_model, wind_height=surf.wind_height,
+        isotropic=surf.wind_direction is None))
     gc = None
     if surf.distribution == "gram-charlier":
         # Cox and Munk's skewness and kurtosis fits use their 12.5 m wind,
@@ -202,7 +209,7 @@ def point_glint(time: Any, longitude: float, latitude: float, view_zenith: float
     """
     t = np.datetime64(time, "ns")
     pos = _solar_position(sun, t, longitude=longitude, latitude=latitude)
-    params = _kernel_parameters(surface, water, t)
+    params = surface_kernel_parameters(surface, water, t)
     ang = {
         "sun_zenith": np.array([pos.zenith], dtype=np.float32).reshape(1),
         "sun_azimuth": np.array([pos.azimuth], dtype=np.float32).reshape(1),
@@ -824,7 +831,7 @@ def scene_attributes(scene: Scene, time: np.datetime64, plan: GeometryPlan | Non
     s = scene.surface
     attrs: dict[str, Any] = {
         "scene_name": scene.name,
-        "scene_time": f"{np.datetime_as_string(time, unit='s')}Z",
+        "scene_time": format_time(time),
         "wind_speed": float(s.wind_speed),
         "wind_height": float(s.wind_height),
         "wind_from_direction": "unknown (isotropic slopes)" if s.wind_direction is None else float(s.wind_direction),

@@ -33,7 +33,8 @@ from glint.io.strips import StripArrays, check_variables, dataset_strips, datase
     col_range, row_range, strip_arrays
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["GeoTiffWriter", "write_dataset_geotiff", "COMPRESSIONS", "RESAMPLINGS"]
+__all__ = ["GeoTiffWriter", "write_dataset_geotiff", "write_category_sidecar", "COMPRESSIONS",
+           "RESAMPLINGS"]
 
 log = logging.getLogger(__name__)
 
@@ -103,6 +104,41 @@ def _default_nodata(dtype: np.dtype[Any]) -> float | None:
     if np.issubdtype(dtype, np.floating):
         return float("nan")
     return float(CLASS_NODATA) if dtype == np.uint8 else None
+
+
+def write_category_sidecar(path: str | os.PathLike[str], names: Sequence[str]) -> Path:
+    """Write the GDAL ``.aux.xml`` sidecar naming the values of band 1.
+
+    GDAL keeps category names and raster attribute tables of a GeoTIFF in a
+    PAM sidecar (``<file>.aux.xml``); GDAL-based GIS software reads them from
+    there. Value ``i`` is named ``names[i]``.
+
+    Returns
+    -------
+    Path
+        The sidecar's path.
+    """
+    from xml.sax.saxutils import escape
+
+    cats = "\n".join(f"      <Category>{escape(n)}</Category>" for n in names)
+    rows = "\n".join(f'      <Row index="{i}"><F>{i}</F><F>{escape(n)}</F></Row>'
+                     for i, n in enumerate(names))
+    xml = f"""<PAMDataset>
+  <PAMRasterBand band="1">
+    <CategoryNames>
+{cats}
+    </CategoryNames>
+    <GDALRasterAttributeTable tableType="thematic">
+      <FieldDefn index="0"><Name>value</Name><Type>0</Type><Usage>5</Usage></FieldDefn>
+      <FieldDefn index="1"><Name>class</Name><Type>2</Type><Usage>2</Usage></FieldDefn>
+{rows}
+    </GDALRasterAttributeTable>
+  </PAMRasterBand>
+</PAMDataset>
+"""
+    sidecar = Path(os.fspath(path) + ".aux.xml")
+    sidecar.write_text(xml, encoding="utf-8")
+    return sidecar
 
 
 def overview_factors(shape: tuple[int, int], blocksize: int) -> list[int]:
@@ -195,6 +231,12 @@ class GeoTiffWriter:
     colormap : mapping of int to (r, g, b, a), optional
         Palette of a one-band uint8 file (GIS software shows the classes in
         these colours).
+    categories : sequence of str, optional
+        Names of the values 0, 1, ... of a one-band uint8 file. Written, as
+        GDAL keeps them for GeoTIFF, in a ``.aux.xml`` sidecar beside the
+        file: category names and a thematic raster attribute table (value,
+        class name), which GDAL-based GIS software shows as the legend. The
+        output set renames the sidecar with its file.
 
     Raises
     ------
@@ -237,6 +279,7 @@ class GeoTiffWriter:
         num_threads: str | int = "ALL_CPUS",
         cache_mb: int = 256,
         colormap: Colormap | None = None,
+        categories: Sequence[str] | None = None,
     ) -> None:
         self.path = Path(path)
         self.grid = grid
@@ -260,6 +303,10 @@ class GeoTiffWriter:
         self.num_threads = str(num_threads)
         self.cache_mb = int(cache_mb)
         self.colormap = dict(colormap) if colormap else None
+        self.categories = tuple(str(c) for c in categories) if categories else None
+        if self.categories and (len(self.variables) != 1 or self.dtype != np.uint8):
+            raise InputError(f"categories name the values of a one-band uint8 file; got "
+                             f"{len(self.variables)} band(s) of {self.dtype}")
         #: Where the strips go: ``path``, or the working copy of a COG.
         self.work_path = Path(f"{self.path}.work.tif") if self.cog else self.path
         self._dst: Any = None
@@ -352,6 +399,8 @@ class GeoTiffWriter:
                 self._dst = None
                 if self.cog:
                     self._copy_to_cog()
+                if self.categories:
+                    write_category_sidecar(self.path, self.categories)
         except BaseException:
             self.abort()
             raise

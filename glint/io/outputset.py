@@ -192,7 +192,17 @@ def _owner_gone(name: str, path: Path, now: float) -> bool:
         return True
     except PermissionError:
         return False
-    return False
+    return _is_zombie(pid)
+
+
+def _is_zombie(pid: int) -> bool:
+    """A process that has ended but was not yet reaped (Linux ``/proc``): it
+    writes nothing any more."""
+    try:
+        stat = Path(f"/proc/{pid}/stat").read_text()
+    except OSError:
+        return False
+    return stat.rpartition(")")[2].split()[:1] == ["Z"]
 
 
 def _roll_forward(journal: Path) -> None:
@@ -348,6 +358,10 @@ class OutputSet:
         directories; call it before the work starts to fail early."""
         if self.directory.exists() and not self.directory.is_dir():
             raise OutputError(f"output directory {str(self.directory)!r} is a file, not a directory")
+        parent = self.directory.resolve().parent
+        if not self.directory.exists() and not self.parents and not parent.is_dir():
+            raise OutputError(f"cannot create output directory {str(self.directory)!r}: its parent "
+                              "does not exist")
         for p in self.paths.values():
             if p.is_dir():
                 raise OutputError(f"output path {str(p)!r} is a directory")

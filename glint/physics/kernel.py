@@ -24,7 +24,7 @@ from numba import njit, prange
 from numpy.typing import ArrayLike, NDArray
 
 from glint.errors import InputError
-from glint.physics import optics, surface
+from glint.physics import surface
 from glint.physics._checks import _check_bool, _positive_scalar
 from glint.validation import as_float_array, broadcast_inputs, check_choice
 
@@ -160,9 +160,14 @@ _CHUNK = 512
 @njit(parallel=True, cache=True, nogil=True, fastmath=_FASTMATH, error_model="numpy")
 def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type: ignore[no-untyped-def]
                gc, use_gc, shadow, mss_shadow, omega_sun,
-               o_angle, o_refl, o_rad, o_frac, F):  # pragma: no cover - compiled
+               o_angle, o_refl, o_rad, o_frac, F,
+               field, s2c_a, s2u_a, wd_a):  # pragma: no cover - compiled
     """One pass over the pixels; returns the number of pixels with a zenith
     angle outside [0, 180] or an infinite azimuth (set to NaN).
+
+    With ``field`` the slope variances (and, when ``aniso``, the wind
+    direction) are taken per pixel from ``s2c_a``, ``s2u_a``, ``wd_a``
+    (a wind field); otherwise from the scalars.
 
     Works in a frame turned so that the sun lies in the vertical plane of
     the y axis; only azimuth differences enter, and they are formed in
@@ -229,9 +234,22 @@ def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type
             cw2 = F(0.5) * (F(1.0) + sin_ts * vy + cos_ts * cos_tv)
             cw = math.sqrt(min(max(cw2, F(0.0)), F(1.0)))
             rho = _nb_fresnel(cw, n, F)
+            wdir = wind_dir
+            if field:  # per-pixel slope statistics (a wind field)
+                pc = s2c_a[i]
+                pu = s2u_a[i]
+                if aniso:
+                    wdir = np.float64(wd_a[i])
+                    norm = F(1.0) / (F(2.0) * pi * math.sqrt(pc * pu))
+                    inv_c = F(1.0) / pc
+                    inv_u = F(1.0) / pu
+                else:
+                    ps = F(0.5) * (pc + pu)
+                    norm = F(1.0) / (F(2.0) * pi * ps)
+                    inv_c = F(1.0) / ps
             if aniso:
                 # wind frame from sun-frame slopes: angle wind - sun azimuth
-                sin_w, cos_w = _nb_sincosd(wind_dir - psd, F)
+                sin_w, cos_w = _nb_sincosd(wdir - psd, F)
                 zc = -zx * cos_w + zy * sin_w
                 zu = -(zx * sin_w + zy * cos_w)
                 a = zc * zc * inv_c + zu * zu * inv_u
@@ -276,8 +294,9 @@ def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type
             else:
                 k = pre[j] * math.exp(arg[j])
                 if shadow:
-                    k *= _nb_shadowing(cts[j], mss_shadow, F) * \
-                        _nb_shadowing(ctv[j], mss_shadow, F)
+                    mss = F(0.5) * (s2c_a[i] + s2u_a[i]) if field else mss_shadow
+                    k *= _nb_shadowing(cts[j], mss, F) * \
+                        _nb_shadowing(ctv[j], mss, F)
                 rad = rhos[j] * k
                 o_rad[i] = rad
                 o_refl[i] = pi * rad / cts[j]
@@ -299,20 +318,44 @@ def _kernel_params(
     """Validate the scalar parameters of :func:`glint_kernel`."""
     check_choice(backend, "backend", KERNEL_BACKENDS)
     check_choice(distribution, "distribution", surface.SLOPE_DISTRIBUTIONS)
+    field = any(np.ndim(v) > 0 for v in (sigma2_crosswind, sigma2_upwind, wind_direction))
     p: dict[str, Any] = {
         "n": _positive_scalar(refractive_index, "refractive_index"),
-        "s2c": _positive_scalar(sigma2_crosswind, "sigma2_crosswind"),
-        "s2u": _positive_scalar(sigma2_upwind, "sigma2_upwind"),
+        "field": field,
         "omega_sun": _positive_scalar(sun_solid_angle, "sun_solid_angle", high=2 * math.pi),
         "shadow": _check_bool(shadowing, "shadowing"),
     }
-    wd = as_float_array(wind_direction, "wind_direction")
-    if wd.ndim != 0 or np.isinf(wd):
-        raise InputError(f"wind_direction must be a finite scalar or NaN; got {wind_direction!r}")
-    p["wd"] = float(wd)
-    p["aniso"] = not math.isnan(p["wd"])
+    if field:
+        # A wind field: arrays broadcast to the pixels (checked in glint_kernel).
+        p["s2c"] = as_float_array(sigma2_crosswind, "sigma2_crosswind")
+        p["s2u"] = as_float_array(sigma2_upwind, "sigma2_upwind")
+        for key, name in (("s2c", "sigma2_crosswind"), ("s2u", "sigma2_upwind")):
+            bad = ~(np.isfinite(p[key]) & (p[key] > 0))
+            if np.any(bad):
+                raise InputError(f"{name} must be finite, > 0 at every pixel; got "
+                                 f"{float(p[key][bad].flat[0])!r}")
+        wd = as_float_array(wind_direction, "wind_direction")
+        if np.all(np.isnan(wd)):
+            p["wd"], p["aniso"] = float("nan"), False
+        elif not np.all(np.isfinite(wd)):
+            raise InputError("wind_direction must be finite at every pixel, or NaN everywhere "
+                             "(unknown direction)")
+        else:
+            p["wd"], p["aniso"] = wd, True
+    else:
+        p["s2c"] = _positive_scalar(sigma2_crosswind, "sigma2_crosswind")
+        p["s2u"] = _positive_scalar(sigma2_upwind, "sigma2_upwind")
+        wd = as_float_array(wind_direction, "wind_direction")
+        if wd.ndim != 0 or np.isinf(wd):
+            raise InputError(f"wind_direction must be a finite scalar or NaN; got {wind_direction!r}")
+        p["wd"] = float(wd)
+        p["aniso"] = not math.isnan(p["wd"])
     p["use_gc"] = distribution == "gram-charlier"
     gc = np.zeros(5)
+    if p["use_gc"] and field:
+        raise InputError("distribution='gram-charlier' takes scalar slope variances and wind "
+                         "direction (its coefficients use one wind); use distribution='gaussian' "
+                         "with per-pixel arrays")
     if p["use_gc"]:
         if not p["aniso"]:
             raise InputError(
@@ -404,9 +447,9 @@ def glint_kernel(
     view_azimuth: ArrayLike,
     *,
     refractive_index: float,
-    sigma2_crosswind: float,
-    sigma2_upwind: float,
-    wind_direction: float = np.nan,
+    sigma2_crosswind: float | np.ndarray,
+    sigma2_upwind: float | np.ndarray,
+    wind_direction: float | np.ndarray = np.nan,
     sun_solid_angle: float,
     distribution: SlopeDistribution = "gaussian",
     gram_charlier: Mapping[str, float] | None = None,
@@ -425,13 +468,16 @@ def glint_kernel(
         float64 otherwise.
     refractive_index : float
         Refractive index of water relative to air [1], > 0.
-    sigma2_crosswind, sigma2_upwind : float
+    sigma2_crosswind, sigma2_upwind : float or array_like
         Mean square slopes across and along the wind [1], > 0
-        (:func:`glint.physics.surface.slope_variances`).
-    wind_direction : float
+        (:func:`glint.physics.surface.slope_variances`). Arrays that
+        broadcast to the angles give per-pixel values (a wind field);
+        scalars keep the fastest path.
+    wind_direction : float or array_like
         Direction the wind blows from, clockwise from true north [°]; NaN
         (the default) selects the isotropic Gaussian with per-axis variance
-        ``(sigma2_crosswind + sigma2_upwind) / 2``.
+        ``(sigma2_crosswind + sigma2_upwind) / 2``. An array gives one
+        direction per pixel (finite everywhere, or NaN everywhere).
     sun_solid_angle : float
         Solid angle of the sun's disc [sr], in (0, 2 pi]
         (:func:`glint.physics.sun.sun_solid_angle`).
@@ -519,6 +565,13 @@ def glint_kernel(
                        sun_solid_angle, distribution, gram_charlier, shadowing, backend)
     arrays, shape, dtype = _kernel_inputs(sun_zenith, sun_azimuth, view_zenith, view_azimuth)
     res = _kernel_outputs(out, shape)
+    if p["field"]:
+        try:
+            for key in ("s2c", "s2u") + (("wd",) if p["aniso"] else ()):
+                p[key] = np.broadcast_to(p[key], shape)
+        except ValueError:
+            raise InputError(f"per-pixel sigma2_crosswind, sigma2_upwind and wind_direction must "
+                             f"broadcast to the angles' shape {shape}") from None
     if backend == "numpy":
         from glint.physics.reflect import _reference_chain  # the module re-exports this one
 
@@ -535,14 +588,24 @@ def glint_kernel(
             res[key][...] = ref[key]
         return res
     F = np.float32 if dtype == np.float32 else np.float64
-    mss_shadow = shadowing_mss(p["s2c"], p["s2u"])
     flat = [arrays[k].reshape(-1) for k in ("sun_zenith", "sun_azimuth", "view_zenith",
                                              "view_azimuth")]
     outs = [res[k].reshape(-1) for k in KERNEL_OUTPUTS]
+    if p["field"]:
+        def flat_of(key: str) -> NDArray[Any]:
+            return np.ascontiguousarray(p[key], dtype=F).reshape(-1)
+
+        s2c_a, s2u_a = flat_of("s2c"), flat_of("s2u")
+        wd_a = flat_of("wd") if p["aniso"] else np.zeros(1, dtype=F)
+        scalars = (F(1.0), F(1.0), 0.0, F(1.0))
+    else:
+        s2c_a = s2u_a = wd_a = np.zeros(1, dtype=F)
+        mss_shadow = shadowing_mss(p["s2c"], p["s2u"])
+        scalars = (F(p["s2c"]), F(p["s2u"]), p["wd"] if p["aniso"] else 0.0, F(mss_shadow))
     nbad = _nb_kernel(  # type: ignore[call-arg]
-        *flat, F(p["n"]), F(p["s2c"]), F(p["s2u"]), p["wd"] if p["aniso"] else 0.0,
-        p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], F(mss_shadow),
-        F(p["omega_sun"]), *outs, F,
+        *flat, F(p["n"]), scalars[0], scalars[1], scalars[2],
+        p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], scalars[3],
+        F(p["omega_sun"]), *outs, F, p["field"], s2c_a, s2u_a, wd_a,
     )
     if nbad:
         for name in ("sun_zenith", "view_zenith", "sun_azimuth", "view_azimuth"):

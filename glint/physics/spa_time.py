@@ -216,9 +216,13 @@ def delta_t(time: Any) -> np.ndarray:
     parabola ``-20 + 32 u**2``. The calendar year selects the piece. The
     polynomials are fitted to observations up to 2005 and are an
     extrapolation after that and drift from the measured Delta T by a few
-    seconds in the 2020s. One second of error in Delta T turns the sun by
-    about 0.004° in hour angle, so give ``delta_t`` explicitly to
-    :func:`solar_position` for the best accuracy. Outside -1999..3000 the
+    seconds in the 2020s. Delta T only shifts the ephemeris time (the sun's
+    place on the ecliptic); the hour angle uses UT. One second of error in
+    Delta T therefore moves the sun by about 1.1e-5° (its motion along the
+    ecliptic), and the polynomials' bias of about 6 s in 2026 by under
+    1e-4°, a quarter of the SPA's stated uncertainty. Give ``delta_t``
+    explicitly to :func:`solar_position` only when the full accuracy is
+    wanted. Outside -1999..3000 the
     expressions are only rough. The coefficients were written down from
     the published expressions as remembered and cross-checked against an
     independent implementation (pvlib) for 1900-2100.

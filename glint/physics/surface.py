@@ -2,8 +2,9 @@
 
 Mean square slopes against wind speed (Cox and Munk 1954, Bréon and Henriot
 2006, Wu 1990), the probability density of surface slopes (Gaussian or the
-Gram-Charlier series of Cox and Munk), the logarithmic wind profile, whitecap
-cover and the shadowing of facets at grazing angles.
+Gram-Charlier series of Cox and Munk). The logarithmic wind profile and
+whitecap cover live in :mod:`glint.physics.wind`, the shadowing of facets at
+grazing angles in :mod:`glint.physics.shadowing`; both are re-exported here.
 
 Conventions (see ``docs/sea-surface.md``):
 
@@ -36,7 +37,14 @@ from numpy.typing import ArrayLike, NDArray
 
 from glint.errors import InputError
 from glint.physics.shadowing import bidirectional_shadowing, shadowing, smith_shadowing
-from glint.validation import as_float_array, broadcast_inputs, check_choice, check_range, warn_outside
+from glint.physics.wind import (
+    ROUGHNESS_LENGTH,
+    WHITECAP_METHODS,
+    _wind,
+    whitecap_fraction,
+    wind_speed_at_height,
+)
+from glint.validation import as_float_array, broadcast_inputs, check_choice, warn_outside
 
 __all__ = [
     "SLOPE_MODELS",
@@ -51,6 +59,7 @@ __all__ = [
     "WHITECAP_METHODS",
     "slope_model",
     "cox_munk_clean",
+    "cox_munk_clean_isotropic",
     "cox_munk_slick",
     "breon_henriot",
     "wu",
@@ -68,7 +77,6 @@ __all__ = [
 ]
 
 SlopeDistribution = Literal["gaussian", "gram-charlier"]
-WhitecapMethod = Literal["monahan-ocmuircheartaigh", "stramska-petelski"]
 
 #: Smallest mean square slope [1] used by :func:`slope_pdf` on each axis. The
 #: Cox-Munk clean upwind law is 0 at calm (3.16e-3 W), which would make the
@@ -77,10 +85,6 @@ WhitecapMethod = Literal["monahan-ocmuircheartaigh", "stramska-petelski"]
 #: :func:`slope_pdf` apply the same floor.
 SLOPE_VARIANCE_FLOOR = 1e-6
 
-#: Aerodynamic roughness length of the open sea used by the logarithmic wind
-#: profile [m] (common practice; see :func:`wind_speed_at_height`).
-ROUGHNESS_LENGTH = 2e-4
-
 #: Height [m] of the anemometer of Cox and Munk (1954), the wind their
 #: Gram-Charlier coefficients were fitted against.
 COX_MUNK_WIND_HEIGHT = 12.5
@@ -88,14 +92,12 @@ COX_MUNK_WIND_HEIGHT = 12.5
 #: Names accepted by ``distribution=`` of :func:`slope_pdf`.
 SLOPE_DISTRIBUTIONS: tuple[str, ...] = ("gaussian", "gram-charlier")
 
-#: Names accepted by ``method=`` of :func:`whitecap_fraction`.
-WHITECAP_METHODS: tuple[str, ...] = ("monahan-ocmuircheartaigh", "stramska-petelski")
-
 FloatArray = NDArray[np.float64]
 #: A float or a float array: the building blocks below are plain arithmetic
 #: and run on either (and under numba.njit on scalars).
 Real = float | NDArray[np.floating]
 SlopeLaw = Callable[[FloatArray], tuple[FloatArray, FloatArray]]
+IsotropicLaw = Callable[[FloatArray], FloatArray]
 
 
 # ---------------------------------------------------------------------------
@@ -121,6 +123,11 @@ class SlopeModelInfo:
         data; outside them a ValidityWarning is issued.
     reference : str
         Short citation with DOI.
+    isotropic : callable or None
+        ``isotropic(wind_speed_model_height) -> sigma2_total``: the
+        authors' own fit of the total mean square slope, used when the wind
+        direction is unknown; None when they give none, and the sum of the
+        crosswind and upwind laws is used instead.
     """
 
     name: str
@@ -128,6 +135,7 @@ class SlopeModelInfo:
     wind_height: float
     wind_range: tuple[float, float]
     reference: str
+    isotropic: IsotropicLaw | None = None
 
 
 #: Every slope-variance model by name, in the order they are defined below.
@@ -135,13 +143,16 @@ SLOPE_MODEL_REGISTRY: dict[str, SlopeModelInfo] = {}
 
 
 def slope_model(
-    name: str, *, wind_height: float, wind_range: tuple[float, float], reference: str
+    name: str, *, wind_height: float, wind_range: tuple[float, float], reference: str,
+    isotropic: IsotropicLaw | None = None,
 ) -> Callable[[SlopeLaw], SlopeLaw]:
     """Register a slope-variance law under ``name`` (decorator).
 
     The decorated function takes the wind [m s⁻¹] at ``wind_height`` as a
     float array (already checked to be >= 0 or NaN) and returns the crosswind
-    and upwind mean square slopes. :func:`slope_variances`, ``SLOPE_MODELS``,
+    and upwind mean square slopes; ``isotropic``, when the authors published
+    a separate fit of the total mean square slope, gives that total (used
+    when the wind direction is unknown). :func:`slope_variances`, ``SLOPE_MODELS``,
     ``SLOPE_MODEL_WIND_HEIGHT`` and ``SLOPE_MODEL_WIND_RANGE`` all read the
     registry, so registering is the one step that adds a model.
     """
@@ -152,14 +163,53 @@ def slope_model(
         SLOPE_MODEL_REGISTRY[name] = SlopeModelInfo(
             name=name, law=law, wind_height=float(wind_height),
             wind_range=(float(wind_range[0]), float(wind_range[1])), reference=reference,
+            isotropic=isotropic,
         )
         return law
 
     return register
 
 
+def cox_munk_clean_isotropic(wind_speed_model_height: FloatArray) -> FloatArray:
+    """Cox and Munk's (1954) separate fit of the total mean square slope of a
+    clean sea, for a wind of unknown direction.
+
+    Parameters
+    ----------
+    wind_speed_model_height : numpy.ndarray
+        Wind speed W [m s⁻¹] at 12.5 m.
+
+    Returns
+    -------
+    numpy.ndarray
+        :math:`\\sigma^2 = \\sigma_c^2 + \\sigma_u^2 = 0.003 + 5.12\\times10^{-3} W` [1].
+
+    Notes
+    -----
+    The paper fits the total (isotropic) mean square slope separately from
+    its crosswind and upwind components; the components' laws sum to
+    0.003 + 5.08e-3 W. The variances differ by under 1 %, but glint, which
+    depends on the slope density exp(-tan²β/σ²)/σ², differs by about
+    +0.5 to +0.8 % at the peak and -7 to -11 % where tan²β/σ² = 16 (1-14
+    m/s). Practitioners compare with the published isotropic law, so glint
+    uses it whenever the wind direction is unknown.
+
+    References
+    ----------
+    Cox, C. and Munk, W. (1954). JOSA 44(11), 838-850,
+    doi:10.1364/JOSA.44.000838.
+
+    Examples
+    --------
+    >>> round(float(cox_munk_clean_isotropic(np.array(10.0))), 4)
+    0.0542
+    """
+    return 0.003 + 5.12e-3 * wind_speed_model_height
+
+
 @slope_model("cox-munk", wind_height=12.5, wind_range=(1.0, 14.0),
-             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838")
+             reference="Cox and Munk (1954), doi:10.1364/JOSA.44.000838",
+             isotropic=cox_munk_clean_isotropic)
 def cox_munk_clean(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
     """Cox and Munk's (1954) mean square slopes of a clean sea surface.
 
@@ -177,9 +227,10 @@ def cox_munk_clean(wind_speed_model_height: FloatArray) -> tuple[FloatArray, Flo
     Notes
     -----
     :math:`\\sigma_c^2 = 0.003 + 1.92\\times10^{-3} W`,
-    :math:`\\sigma_u^2 = 3.16\\times10^{-3} W`. The published total
-    0.003 + 5.12e-3 W is a separate fit: the components sum to
-    0.003 + 5.08e-3 W, within 1 %.
+    :math:`\\sigma_u^2 = 3.16\\times10^{-3} W`, used when the wind direction
+    is known. The published total 0.003 + 5.12e-3 W is a separate fit
+    (:func:`cox_munk_clean_isotropic`), used when it is not; the components
+    sum to 0.003 + 5.08e-3 W.
 
     References
     ----------
@@ -300,10 +351,11 @@ def wu(wind_speed_model_height: FloatArray) -> tuple[FloatArray, FloatArray]:
 
     Notes
     -----
-    Two log-linear regimes (from memory):
+    Two log-linear regimes (coefficients from memory):
     :math:`10^{-2}(0.90 \\ln U + 1.20)` at light winds and
     :math:`10^{-2}(6.0 \\ln U - 8.4)` at strong winds. Wu places the break
-    near 7 m/s; here the larger of the two lines is used, which switches at
+    near 7 m/s (abstract: gravity waves dominate the slopes below
+    U10 = 7 m/s, or u* = 20 cm/s, capillary waves above); here the larger of the two lines is used, which switches at
     their crossing (U = 6.57 m/s) and keeps the total continuous. The total
     is floored at 0.003 and split in the ratio of Cox and Munk's clean
     slopes, crosswind share 1.92 / 5.08.
@@ -356,12 +408,6 @@ _C22 = 0.12
 _C04 = 0.23
 
 
-def _wind(wind_speed: ArrayLike, name: str = "wind_speed") -> FloatArray:
-    w = as_float_array(wind_speed, name)
-    check_range(w, name, 0.0, None, unit="m s⁻¹")
-    return w
-
-
 def _wind_at(w: FloatArray, wind_height: ArrayLike, target_height: float) -> FloatArray:
     """``w`` (checked, at ``wind_height``) at ``target_height``: unchanged
     when the heights are equal, else by :func:`wind_speed_at_height`."""
@@ -372,7 +418,8 @@ def _wind_at(w: FloatArray, wind_height: ArrayLike, target_height: float) -> Flo
 
 
 def slope_variances(
-    wind_speed: ArrayLike, *, model: str = "cox-munk", wind_height: ArrayLike = 10.0
+    wind_speed: ArrayLike, *, model: str = "cox-munk", wind_height: ArrayLike = 10.0,
+    isotropic: bool = False,
 ) -> tuple[FloatArray, FloatArray]:
     """Crosswind and upwind mean square slopes of the sea surface.
 
@@ -391,11 +438,18 @@ def slope_variances(
         wind is converted to the model's own height
         (``SLOPE_MODEL_WIND_HEIGHT[model]``: 12.5 m for the Cox-Munk
         models, 10 m for the others) with :func:`wind_speed_at_height`.
+    isotropic : bool
+        The wind direction is unknown: return the model's own fit of the
+        total mean square slope, split equally between the two directions
+        (for Cox-Munk 0.003 + 5.12e-3 W, :func:`cox_munk_clean_isotropic`).
+        Models without a separate total fit split the sum of their two
+        laws equally.
 
     Returns
     -------
     sigma2_crosswind, sigma2_upwind : numpy.ndarray
-        Mean square slopes [1] across and along the wind.
+        Mean square slopes [1] across and along the wind (equal halves of
+        the total when ``isotropic``).
 
     Raises
     ------
@@ -429,14 +483,26 @@ def slope_variances(
     >>> c, u = slope_variances(10.0)
     >>> round(float(c), 4), round(float(u), 4)
     (0.0226, 0.0323)
+
+    Without a wind direction, the published total in two equal halves:
+
+    >>> c, u = slope_variances(10.0, wind_height=12.5, isotropic=True)
+    >>> round(float(c + u), 4), bool(c == u)
+    (0.0542, True)
     """
     check_choice(model, "model", SLOPE_MODELS)
+    if not isinstance(isotropic, (bool, np.bool_)):
+        raise InputError(f"isotropic must be True or False; got {isotropic!r}")
     info = SLOPE_MODEL_REGISTRY[model]
     w = _wind_at(_wind(wind_speed), wind_height, info.wind_height)
     low, high = info.wind_range
     warn_outside(w, f"wind_speed (at the model's {info.wind_height:g} m height)", low, high,
                  f"the {model!r} slope model's data")
     c, u = info.law(w)
+    if isotropic:
+        total = info.isotropic(w) if info.isotropic is not None else c + u
+        half = 0.5 * np.asarray(total, dtype=float)
+        return half, half.copy()
     return np.asarray(c, dtype=float), np.asarray(u, dtype=float)
 
 
@@ -686,8 +752,10 @@ def slope_pdf(
     upwind axis = direction the wind blows to) and
     :math:`p = \\exp(-(\\xi^2+\\eta^2)/2)/(2\\pi\\sigma_c\\sigma_u)`
     (:func:`anisotropic_gaussian_pdf`), times :func:`gram_charlier_series`
-    for ``"gram-charlier"``. Without a direction both axes get the variance
-    :math:`(\\sigma_c^2 + \\sigma_u^2)/2`. Each variance is floored at
+    for ``"gram-charlier"``. Without a direction both axes get half the
+    model's total mean square slope (``slope_variances(..., isotropic=True)``:
+    Cox and Munk's separate isotropic fit 0.003 + 5.12e-3 W for
+    ``"cox-munk"``). Each variance is floored at
     ``SLOPE_VARIANCE_FLOOR`` (1e-6) so that calm water stays finite. The
     Gram-Charlier coefficients are Cox and Munk's clean-surface ones whatever
     ``model`` supplies the variances.
@@ -715,7 +783,8 @@ def slope_pdf(
     w = as_float_array(wind_speed, "wind_speed")
     phi = None if wind_direction is None else as_float_array(wind_direction, "wind_direction")
     broadcast_inputs(zx=zx, zy=zy, wind_speed=w, wind_direction=0.0 if phi is None else phi)
-    s2c, s2u = slope_variances(w, model=model, wind_height=wind_height)
+    s2c, s2u = slope_variances(w, model=model, wind_height=wind_height,
+                               isotropic=wind_direction is None)
     s2c = np.maximum(s2c, SLOPE_VARIANCE_FLOOR)
     s2u = np.maximum(s2u, SLOPE_VARIANCE_FLOOR)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
@@ -732,124 +801,3 @@ def slope_pdf(
                 c["c21"], c["c03"], c["c40"], c["c22"], c["c04"],
             )
     return np.asarray(p, dtype=float)
-
-
-def wind_speed_at_height(
-    wind_speed: ArrayLike,
-    height: ArrayLike,
-    *,
-    target_height: ArrayLike = 10.0,
-    roughness_length: ArrayLike = ROUGHNESS_LENGTH,
-) -> FloatArray:
-    """Convert a wind speed between heights with the logarithmic profile.
-
-    Parameters
-    ----------
-    wind_speed : array_like
-        Wind speed [m s⁻¹] measured at ``height``.
-    height : array_like
-        Height of the measurement above the water [m].
-    target_height : array_like
-        Height to convert to [m]; 10 m by default.
-    roughness_length : array_like
-        Aerodynamic roughness length z0 [m]; 2e-4 m, a common value for the
-        open sea (common practice).
-
-    Returns
-    -------
-    numpy.ndarray
-        Wind speed [m s⁻¹] at ``target_height``.
-
-    Raises
-    ------
-    InputError
-        Negative wind speed, roughness length <= 0, or a height at or below
-        the roughness length.
-
-    Notes
-    -----
-    Neutral surface layer (Stull 1988, ch. 9):
-    :math:`U(z_2) = U(z_1) \\ln(z_2/z_0) / \\ln(z_1/z_0)`. Stability and
-    wave-dependent roughness are ignored. For example a 12.5 m wind is about
-    2 % faster than the 10 m wind.
-
-    References
-    ----------
-    Stull, R.B. (1988). An Introduction to Boundary Layer Meteorology.
-    Kluwer, doi:10.1007/978-94-009-3027-8.
-
-    Examples
-    --------
-    >>> round(float(wind_speed_at_height(10.0, 10.0, target_height=12.5)), 3)
-    10.206
-    """
-    w = _wind(wind_speed)
-    z1 = as_float_array(height, "height")
-    z2 = as_float_array(target_height, "target_height")
-    z0 = as_float_array(roughness_length, "roughness_length")
-    check_range(z0, "roughness_length", 0.0, None, low_inclusive=False, unit="m")
-    z0min = float(np.nanmax(z0)) if np.any(np.isfinite(z0)) else 0.0
-    for z, name in ((z1, "height"), (z2, "target_height")):
-        arr = np.asarray(z, dtype=float)
-        bad = np.isfinite(arr) & np.isfinite(z0) & (arr <= z0)
-        if np.any(bad):
-            raise InputError(
-                f"{name} must exceed the roughness length ({z0min:g} m); got "
-                f"{float(np.broadcast_to(arr, bad.shape)[bad].flat[0])!r}"
-            )
-    return np.asarray(w * np.log(z2 / z0) / np.log(z1 / z0), dtype=float)
-
-
-def whitecap_fraction(
-    wind_speed: ArrayLike, *, method: WhitecapMethod = "monahan-ocmuircheartaigh"
-) -> FloatArray:
-    """Fraction of the sea surface covered by whitecaps.
-
-    Parameters
-    ----------
-    wind_speed : array_like
-        Wind speed at 10 m [m s⁻¹].
-    method : {"monahan-ocmuircheartaigh", "stramska-petelski"}
-        Power law of Monahan and O'Muircheartaigh (1980), or the law of
-        Stramska and Petelski (2003) for undeveloped seas.
-
-    Returns
-    -------
-    numpy.ndarray
-        Whitecap cover [1], clipped to [0, 1].
-
-    Raises
-    ------
-    InputError
-        Negative wind speed or unknown method.
-
-    Notes
-    -----
-    Monahan and O'Muircheartaigh (1980): :math:`W = 3.84\\times10^{-6}
-    U_{10}^{3.41}`. Stramska and Petelski (2003), undeveloped seas (from
-    memory): :math:`W = 8.75\\times10^{-5} (U_{10} - 6.33)^3` above
-    6.33 m/s, 0 below.
-
-    References
-    ----------
-    Monahan, E.C. and O'Muircheartaigh, I. (1980). Optimal power-law
-    description of oceanic whitecap coverage dependence on wind speed.
-    J. Phys. Oceanogr. 10, 2094-2099,
-    doi:10.1175/1520-0485(1980)010<2094:OPLDOW>2.0.CO;2.
-
-    Stramska, M. and Petelski, T. (2003). Observations of oceanic whitecaps
-    in the north polar waters of the Atlantic. JGR 108(C3), 3086,
-    doi:10.1029/2002JC001378.
-
-    Examples
-    --------
-    >>> round(float(whitecap_fraction(10.0)), 5)
-    0.00987
-    """
-    check_choice(method, "method", WHITECAP_METHODS)
-    w = _wind(wind_speed)
-    if method == "monahan-ocmuircheartaigh":
-        f = 3.84e-6 * w**3.41
-    else:
-        f = 8.75e-5 * np.maximum(w - 6.33, 0.0) ** 3
-    return np.asarray(np.clip(f, 0.0, 1.0), dtype=float)

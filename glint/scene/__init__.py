@@ -22,6 +22,7 @@ from glint.scene.model import (
     Water,
     slugify,
 )
+from glint.scene.record import scene_record, scene_toml
 
 __all__ = [
     "Surface",
@@ -33,6 +34,8 @@ __all__ = [
     "load_scene",
     "scene_from_dict",
     "slugify",
+    "scene_record",
+    "scene_toml",
     "SECTIONS",
     "OUTPUT_FORMATS",
     "COMPRESSIONS",

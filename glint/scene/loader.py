@@ -37,6 +37,7 @@ The file layout (every key is described in ``docs/user-guide.md``)::
 
 from __future__ import annotations
 
+import copy
 import datetime as _dt
 import difflib
 import re
@@ -71,7 +72,7 @@ from glint.scene.model import (
     slugify,
 )
 from glint.sensors import Sensor, sensor_from_table
-from glint.times import parse_time
+from glint.times import format_time, parse_time
 from glint.validation import interval_problem
 from glint.variables import DEFAULT_VARIABLES, VARIABLES
 
@@ -377,7 +378,7 @@ def _read_times(table: Mapping[str, Any], problems: _Problems) -> tuple[np.datet
     if len(out) == len(items):
         seen = [t for t in out if out.count(t) > 1]
         if seen:
-            problems.add(raw, f"lists {np.datetime_as_string(seen[0], unit='s')}Z more than once")
+            problems.add(raw, f"lists {format_time(seen[0])} more than once")
     return tuple(out)
 
 
@@ -492,16 +493,18 @@ def _check_sensor_time(sensor: Sensor, times: Sequence[np.datetime64],
         return
     other = [t for t in times if t != pinned]
     if other:
-        shown = ", ".join(f"{np.datetime_as_string(t, unit='s')}Z" for t in other[:3])
+        shown = ", ".join(format_time(t) for t in other[:3])
         problems.add(f"sensor.{key}",
-                     f"{np.datetime_as_string(pinned, unit='s')}Z differs from the scene time(s) {shown}; "
+                     f"{format_time(pinned)} differs from the scene time(s) {shown}; "
                      f"the sensor images the scene at its own times, so leave out sensor.{key} "
                      "(it then follows the scene time, also under --time) or map that time")
 
 
-def _section_tables(data: Mapping[str, Any], problems: _Problems) -> dict[str, Mapping[str, Any]]:
+def _section_tables(data: Mapping[str, Any], problems: _Problems, *,
+                    grid_given: bool = False) -> dict[str, Mapping[str, Any]]:
     """The tables of the known sections; unknown, non-table and missing
-    required sections are problems."""
+    required sections are problems ([grid] is optional when the caller
+    supplies the grid)."""
     tables: dict[str, Mapping[str, Any]] = {}
     for name, table in data.items():
         if name not in SECTIONS:
@@ -516,7 +519,7 @@ def _section_tables(data: Mapping[str, Any], problems: _Problems) -> dict[str, M
         else:
             tables[name] = table
     for name in _REQUIRED_SECTIONS:
-        if name not in data:
+        if name not in data and not (name == "grid" and grid_given):
             problems.add(name, f"required section [{name}] is missing")
     return tables
 
@@ -627,7 +630,7 @@ def _build_outputs(tables: Mapping[str, Mapping[str, Any]], problems: _Problems)
 
 
 def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
-                    source: Path | str | None = None) -> Scene:
+                    source: Path | str | None = None, grid: Grid | None = None) -> Scene:
     """Build and validate a :class:`Scene` from a nested mapping.
 
     Parameters
@@ -641,6 +644,9 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         file's directory).
     source : path, optional
         The file the scene came from; named in errors and kept on the scene.
+    grid : Grid, optional
+        A grid supplied by the caller (an image's grid): used instead of a
+        ``[grid]`` section, which may then be omitted.
 
     Returns
     -------
@@ -675,9 +681,10 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
     if not isinstance(data, Mapping):
         raise SceneError([f"expected a table of sections, got {_type_name(data)}"], src)
     problems = _Problems()
-    tables = _section_tables(data, problems)
+    tables = _section_tables(data, problems, grid_given=grid is not None)
     head = _build_scene_section(tables, source, problems)
-    grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
+    if grid is None:
+        grid = _build_grid(tables["grid"], base_dir, problems) if "grid" in tables else None
     sensor = _build_sensor(tables, base_dir, grid, head.times, problems)
     surface = _build_surface(tables, problems)
     water = _build_water(tables, problems)
@@ -700,6 +707,8 @@ def scene_from_dict(data: Mapping[str, Any], *, base_dir: Path | str,
         description=head.description,
         tie_point_tolerance=head.tie_point_tolerance,
         source=Path(source) if source is not None else None,
+        tables=copy.deepcopy(dict(data)),
+        base_dir=base_dir.resolve(),
     )
 
 
@@ -750,7 +759,7 @@ def _apply_overrides(data: dict[str, Any], overrides: Mapping[str, Any],
     return data
 
 
-def load_scene(path: Path | str, **overrides: Any) -> Scene:
+def load_scene(path: Path | str, *, grid: Grid | None = None, **overrides: Any) -> Scene:
     """Read, validate and return the scene described by a TOML file.
 
     Parameters
@@ -765,6 +774,9 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
         ``"section.key"`` (``**{"water.temperature": 15.0}``). ``time``
         replaces ``time``/``times`` (a list sets ``times``). ``None`` values
         are ignored.
+    grid : Grid, optional
+        Use this grid (an image's) instead of the file's ``[grid]`` section,
+        which may then be omitted.
 
     Returns
     -------
@@ -795,4 +807,4 @@ def load_scene(path: Path | str, **overrides: Any) -> Scene:
     except tomllib.TOMLDecodeError as exc:
         raise SceneError([f"invalid TOML: {exc}"], str(path)) from None
     data = _apply_overrides(data, overrides, str(path))
-    return scene_from_dict(data, base_dir=path.resolve().parent, source=path)
+    return scene_from_dict(data, base_dir=path.resolve().parent, source=path, grid=grid)

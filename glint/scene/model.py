@@ -10,7 +10,9 @@ scene file, and :func:`dataclasses.replace` changes one.
 from __future__ import annotations
 
 import re
-from dataclasses import dataclass
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
 from pathlib import Path
 
 import numpy as np
@@ -224,6 +226,11 @@ class Scene:
     description: str = ""
     tie_point_tolerance: float = 1e-4
     source: Path | None = None
+    #: The scene-file tables the scene was built from (after command-line
+    #: overrides), and the directory their relative paths refer to; kept to
+    #: record the run beside its outputs (:func:`glint.scene.scene_record`).
+    tables: Mapping[str, Any] | None = field(default=None, compare=False, repr=False)
+    base_dir: Path | None = field(default=None, compare=False, repr=False)
 
     @property
     def file_stem(self) -> str:

@@ -34,7 +34,7 @@ from glint.validation import (
     interval_problem,
     wrap_azimuth,
 )
-from glint.errors import GlintError, SceneError, SensorError
+from glint.errors import GlintError, SceneError
 from glint.times import parse_time
 
 __all__ = [

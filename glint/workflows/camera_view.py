@@ -13,6 +13,7 @@ local regulations and licensed practice.
 
 from __future__ import annotations
 
+import math
 import os
 from collections.abc import Sequence
 from dataclasses import dataclass
@@ -21,25 +22,51 @@ from typing import Any, ClassVar
 import numpy as np
 
 from glint.engine import compute
-from glint.errors import SensorError
+from glint.errors import InputError, SensorError
 from glint.io.geojson import FootprintWriter
 from glint.io.netcdf import ClassFlags, ImageGrid, NetCDFWriter
 from glint.io.outputset import OutputSet
-from glint.io.quicklook import CAUTION, QuicklookStyle, QuicklookWriter
+from glint.io.quicklook import QuicklookStyle, QuicklookWriter
 from glint.scene import Scene
 from glint.sensors import FrameCamera, camera_image_geometry
 from glint.times import format_time
-from glint.workflows.job import GlintTally, JobResult, TimeFiles, TimeSummary, plan_outputs
+from glint.variables import VARIABLES
+from glint.workflows.job import (
+    RUN_RECORD_SUFFIX,
+    GlintTally,
+    JobResult,
+    TimeFiles,
+    TimeSummary,
+    plan_outputs,
+    run_cautions,
+    run_metadata,
+    sun_note,
+)
 
 __all__ = ["CameraViewSummary", "CameraViewResult", "camera_view", "write_camera_view",
-           "VIEW_SCALE_MAX"]
+           "PREVIEW_LONG_SIDE", "default_step"]
 
-#: Fixed top of the camera-view colour scale (glint reflectance factor), so
-#: that views of different times, headings and pitches compare directly.
-VIEW_SCALE_MAX = 0.1
+#: Long side [pixels] of a camera view computed with the default step: what
+#: a person wants from a preview; ``step=1`` computes every pixel.
+PREVIEW_LONG_SIDE = 1000
 
-_SUFFIXES = {"png": "_camera_view.png", "netcdf": "_camera_view.nc",
-             "footprint": "_footprint.geojson"}
+_SUFFIXES = {"png": "_camera_view.png", "class_png": "_camera_view_class.png",
+             "netcdf": "_camera_view.nc", "footprint": "_footprint.geojson",
+             "run": RUN_RECORD_SUFFIX}
+
+
+def default_step(camera: FrameCamera) -> int:
+    """Pixel step that brings the image's long side to about
+    :data:`PREVIEW_LONG_SIDE` pixels (1 for small images).
+
+    Examples
+    --------
+    >>> cam = FrameCamera(lon=0.0, lat=50.0, altitude=100.0, image_size=(4000, 3000),
+    ...                   horizontal_fov=70.0)
+    >>> default_step(cam)
+    4
+    """
+    return max(1, math.ceil(max(camera.cols, camera.rows) / PREVIEW_LONG_SIDE))
 
 
 @dataclass(frozen=True)
@@ -151,7 +178,7 @@ def _netcdf_attrs(ds: Any, scene: Scene, step: int) -> dict[str, Any]:
         "title": f"Sun glint in the camera image: {scene.name}",
         "summary": "Glint variables for each pixel of a camera image; lon/lat give the point "
                    "where each pixel's ray meets the water.",
-        "comment": CAUTION,
+        "comment": " ".join(run_cautions(scene)),
         "pixel_step": int(step),
     }
 
@@ -174,30 +201,49 @@ def _write_netcdf(out: OutputSet, key: str, ds: Any, scene: Scene, t: np.datetim
 
 
 def _write_png(out: OutputSet, key: str, ds: Any, scene: Scene, cam: FrameCamera,
-               summary_sun: tuple[float, float], t: np.datetime64) -> None:
+               summary_sun: tuple[float, float], t: np.datetime64, step: int,
+               variable: str = "glint_reflectance") -> None:
+    """A quicklook of the camera image on the maps' scale (or its classes)."""
+    c = scene.classes
+    subtitle = (f"{format_time(t, 'text')}   sun zenith {summary_sun[0]:.1f}°, azimuth "
+                f"{summary_sun[1]:.1f}°\ncamera heading {cam.heading:g}°, pitch {cam.pitch:g}°, "
+                f"roll {cam.roll:g}°, {cam.altitude:g} m up; every {step} pixel(s)")
+    note = sun_note(summary_sun[0])
+    if note:
+        subtitle += f"\n{note[0].upper()}{note[1:]}"
+    marks: tuple[tuple[float, str], ...] = ()
+    if variable == c.variable:
+        marks = tuple(zip(c.thresholds, c.names[1:]))
+    elif (c.variable, variable) == ("glint_radiance", "glint_reflectance") and summary_sun[0] < 90:
+        cos_s = math.cos(math.radians(summary_sun[0]))
+        marks = tuple((math.pi * th / cos_s, n) for th, n in zip(c.thresholds, c.names[1:]))
     style = QuicklookStyle(
-        title=f"{scene.name}: glint reflectance in the camera image",
-        subtitle=f"{format_time(t, 'text')}   sun zenith {summary_sun[0]:.1f}°, "
-                 f"azimuth {summary_sun[1]:.1f}°",
-        label="glint reflectance factor [1] (fixed scale)", axis_units="px",
-        vmax=VIEW_SCALE_MAX, xlabel="image column [px]", ylabel="image row [px]",
+        title=f"{scene.name}: {VARIABLES[variable].long_name} in the camera image",
+        subtitle=subtitle, image_axes=True, marks=marks, cautions=run_cautions(scene),
+        class_names=tuple(c.names), class_thresholds=tuple(c.thresholds),
+        class_variable_label=f"{c.variable} [{VARIABLES[c.variable].units}]",
     )
-    refl = ds.glint_reflectance.values
+    values = ds[variable].values
     w = out.writer(key, lambda p: QuicklookWriter(
-        p, refl.shape, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), "glint_reflectance", style))
-    w.write(slice(0, refl.shape[0]), {"glint_reflectance": refl})
+        p, values.shape, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), variable, style))
+    w.write(slice(0, values.shape[0]), {variable: values})
     w.close()
 
 
 def _write_footprint(out: OutputSet, key: str, cam: FrameCamera, scene: Scene,
-                     t: np.datetime64) -> str | None:
+                     t: np.datetime64, command: str | None) -> str | None:
     """Write the footprint; returns why it was not written, or None."""
     try:
         lon, lat = cam.footprint()
     except SensorError as exc:
         out.drop(key)
         return f"not written: {exc}"
-    props = {"scene": scene.name, "time": format_time(t), "corners": "image corners, counter-clockwise"}
+    run = run_metadata(scene, t, command)
+    props = {"scene": scene.name, "time": format_time(t), "corners": "image corners, counter-clockwise",
+             "camera": {"lon": cam.lon, "lat": cam.lat, "altitude": cam.altitude,
+                        "heading": cam.heading, "pitch": cam.pitch, "roll": cam.roll,
+                        "image_size": [cam.cols, cam.rows]},
+             **run}
     out.writer(key, lambda p: FootprintWriter(p, lon, lat, props)).close()
     return None
 
@@ -211,7 +257,7 @@ def _ground_sampling_distance(cam: FrameCamera) -> tuple[float, float] | None:
 
 
 def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCamera,
-                    step: int) -> CameraViewSummary:
+                    step: int, command: str | None) -> CameraViewSummary:
     """Compute and write the camera view of one time; returns its summary."""
     t = files.time
     ds = camera_view(scene, time=t, step=step)
@@ -222,9 +268,17 @@ def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCa
         f"vertical_fov={cam.vertical_fov:.3f} deg): point the camera below the horizon")
     sun = compute.sun_angles(scene, t, longitude=cam.lon, latitude=cam.lat)
     sun_zenith, sun_azimuth = float(sun.zenith), float(sun.azimuth)
-    _write_png(out, files.key("png"), ds, scene, cam, (sun_zenith, sun_azimuth), t)
+    run = run_metadata(scene, t, command)
+    note = sun_note(sun_zenith)
+    ds.attrs.update(run)
+    if note:
+        ds.attrs["sun_condition"] = note
+    _write_png(out, files.key("png"), ds, scene, cam, (sun_zenith, sun_azimuth), t, step)
+    _write_png(out, files.key("class_png"), ds, scene, cam, (sun_zenith, sun_azimuth), t, step,
+               "glint_class")
     _write_netcdf(out, files.key("netcdf"), ds, scene, t, step)
-    footprint = _write_footprint(out, files.key("footprint"), cam, scene, t)
+    footprint = _write_footprint(out, files.key("footprint"), cam, scene, t, command)
+    out.temp(files.key("run")).write_text(run["glint_run_record"], encoding="utf-8")
     fields = TimeSummary.tallied(tally)
     fields["unseen_pixels"] = int(ds.attrs["unseen_pixels"])
     return CameraViewSummary(time=t, sun_zenith=sun_zenith, sun_azimuth=sun_azimuth,
@@ -232,13 +286,15 @@ def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCa
                              ground_sampling_distance=_ground_sampling_distance(cam), **fields)
 
 
-def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int = 1,
-                      overwrite: bool = False) -> CameraViewResult:
+def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int | None = None,
+                      overwrite: bool = False, command: str | None = None) -> CameraViewResult:
     """Write, per scene time, the camera-view PNG, NetCDF and footprint.
 
     Files (``<stem>`` is the scene's file stem followed by the time, as for
     maps): ``<stem>_camera_view.png`` (glint reflectance in image
-    coordinates on a fixed colour scale from 0 to ``VIEW_SCALE_MAX``),
+    coordinates on the maps' fixed logarithmic scale),
+    ``<stem>_camera_view_class.png`` (the glint classes with a legend),
+    ``<stem>_run.toml`` (the resolved scene, with the camera pose),
     ``<stem>_camera_view.nc`` (every variable, image coordinates, lon/lat of
     each pixel, CF-1.11, zlib-compressed) and ``<stem>_footprint.geojson``
     (the image's ground polygon; omitted when part of the image looks at or
@@ -254,9 +310,14 @@ def write_camera_view(scene: Scene, outdir: str | os.PathLike[str], *, step: int
         An output exists (without ``overwrite``) or cannot be written.
     """
     cam = _camera(scene)
+    if step is None:
+        step = default_step(cam)
+    if isinstance(step, bool) or not isinstance(step, (int, np.integer)) or step < 1:
+        raise InputError(f"step must be a whole number >= 1 (1: every pixel); got {step!r}")
+    step = int(step)
     plan = plan_outputs(scene, outdir, _SUFFIXES, overwrite=overwrite)
     summaries: list[CameraViewSummary] = []
     with plan.output_set as out:
         for files in plan.times:
-            summaries.append(_write_one_view(out, files, scene, cam, step))
+            summaries.append(_write_one_view(out, files, scene, cam, step, command))
     return CameraViewResult(files=list(out.files), summaries=summaries)

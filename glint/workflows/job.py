@@ -37,9 +37,11 @@ from typing import Any, ClassVar, Generic, Protocol, TypeVar, cast
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from glint._version import __version__
 from glint.errors import SensorError
 from glint.io.naming import output_stem
 from glint.io.outputset import OutputSet
+from glint.io.quicklook import CAUTION, FLIGHT_CAUTION
 from glint.variables import CLASS_NODATA
 
 __all__ = [
@@ -51,7 +53,70 @@ __all__ = [
     "JobResult",
     "seen_mask",
     "computed_ahead",
+    "LOW_SUN_ELEVATION",
+    "sun_note",
+    "run_cautions",
+    "run_metadata",
+    "RUN_RECORD_SUFFIX",
 ]
+
+#: Sun elevation [°] below which a summary warns that the sun is low: below
+#: it refraction, wave shadowing and hiding, which the slope statistics treat
+#: only roughly, dominate the glint (common practice puts the limit of the
+#: Cox-Munk statistics at a few degrees of elevation).
+LOW_SUN_ELEVATION = 5.0
+
+#: File-name suffix of the run record written beside every run's outputs.
+RUN_RECORD_SUFFIX = "_run.toml"
+
+
+def sun_note(sun_zenith: float) -> str | None:
+    """A warning when the sun is below the horizon or low, else None.
+
+    Examples
+    --------
+    >>> sun_note(95.0)
+    'the sun is below the horizon (elevation -5.0 deg): no sun glint, the maps are all zero'
+    >>> sun_note(30.0) is None
+    True
+    """
+    elevation = 90.0 - float(sun_zenith)
+    if not math.isfinite(elevation):
+        return None
+    if elevation <= 0.0:
+        return (f"the sun is below the horizon (elevation {elevation:.1f} deg): no sun glint, "
+                "the maps are all zero")
+    if elevation < LOW_SUN_ELEVATION:
+        return (f"the sun is low (elevation {elevation:.1f} deg, below {LOW_SUN_ELEVATION:g} deg): "
+                "glint estimates are least reliable there")
+    return None
+
+
+def run_cautions(scene: Any) -> tuple[str, ...]:
+    """The cautions of a run: always :data:`CAUTION`; with a drone camera
+    (a frame camera that is not a fixed shore or mast camera) also
+    :data:`FLIGHT_CAUTION`."""
+    from glint.sensors import FixedCamera, FrameCamera
+
+    sensor = getattr(scene, "sensor", None)
+    drone = isinstance(sensor, FrameCamera) and not isinstance(sensor, FixedCamera)
+    return (CAUTION, FLIGHT_CAUTION) if drone else (CAUTION,)
+
+
+def run_metadata(scene: Any, time: np.datetime64, command: str | None) -> dict[str, str]:
+    """What every output file records about its run: glint's version, the
+    command, the cautions and the resolved scene (as a scene file that
+    reproduces the run, :func:`glint.scene.scene_toml`)."""
+    from glint.scene import scene_toml
+
+    cmd = command or "glint Python interface"
+    return {
+        "glint_version": __version__,
+        "glint_command": cmd,
+        "caution": " ".join(run_cautions(scene)),
+        "glint_run_record": scene_toml(scene, command=cmd, version=__version__, times=(time,)),
+    }
+
 
 
 T = TypeVar("T")
@@ -321,6 +386,11 @@ class TimeSummary:
 
     #: Where the sun angles are taken (shown with them).
     sun_at: ClassVar[str] = "grid centre"
+
+    @property
+    def sun_note(self) -> str | None:
+        """A warning when the sun is below the horizon or low (:func:`sun_note`)."""
+        return sun_note(self.sun_zenith)
 
     time: np.datetime64
     sun_zenith: float

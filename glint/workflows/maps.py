@@ -10,9 +10,11 @@ SIGTERM) leaves none of them.
 from __future__ import annotations
 
 import logging
+import math
 import os
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
+from pathlib import Path
 from typing import Any, Optional
 
 import numpy as np
@@ -26,17 +28,26 @@ from glint.io.geotiff import GeoTiffWriter
 from glint.io.naming import check_free_space
 from glint.io.netcdf import ClassFlags, NetCDFWriter
 from glint.io.outputset import OutputSet, OutputWriter
-from glint.io.quicklook import CAUTION, QuicklookStyle, QuicklookWriter
+from glint.io.quicklook import (
+    QuicklookStyle,
+    QuicklookWriter,
+    check_quicklook_variables,
+    class_palette,
+)
 from glint.scene import OUTPUT_FORMATS, Scene
 from glint.times import format_time
-from glint.variables import CLASS_NODATA, VARIABLES
+from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
 from glint.workflows.job import (
+    RUN_RECORD_SUFFIX,
     GlintTally,
     JobResult,
     TimeFiles,
     TimeSummary,
     computed_ahead,
     plan_outputs,
+    run_cautions,
+    run_metadata,
+    sun_note,
 )
 
 __all__ = ["FORMATS", "MapSummary", "MapResult", "Strip", "write_maps", "strip_variables",
@@ -55,9 +66,20 @@ _Piece = tuple[slice, Optional[slice], Mapping[str, NDArray[Any]]]
 #: Variables the summary and the quicklook need besides the written ones.
 _ALWAYS = ("glint_reflectance", "view_zenith", "glint_class")
 
-#: File-name suffix of each kind of map file.
+#: File-name suffix of each kind of map file (PNG quicklooks: ``png:<variable>``).
 _SUFFIXES = {"geotiff": "_glint.tif", "classes": "_glint_class.tif", "netcdf": "_glint.nc",
-             "png": "_glint.png"}
+             "run": RUN_RECORD_SUFFIX}
+
+#: The quicklooks written when the variables are the defaults: the glint
+#: reflectance, and the classes whenever they are written.
+DEFAULT_QUICKLOOKS = ("glint_reflectance", "glint_class")
+
+
+def _png_suffix(variable: str) -> str:
+    """``_glint.png`` for the reflectance (the headline quicklook),
+    ``_glint_class.png`` for the classes, ``_<variable>.png`` otherwise."""
+    return {"glint_reflectance": "_glint.png", "glint_class": "_glint_class.png"}.get(
+        variable, f"_{variable}.png")
 
 
 @dataclass(frozen=True)
@@ -102,6 +124,7 @@ class _Request:
     with_classes: bool
     cog: bool
     needed: tuple[str, ...]
+    quicklooks: tuple[str, ...]
 
     @classmethod
     def check(cls, scene: Scene, formats: Sequence[str] | None, variables: Sequence[str] | None,
@@ -111,12 +134,24 @@ class _Request:
         if bad:
             raise InputError(f"unknown output format(s) {bad!r}; allowed: {', '.join(FORMATS)}")
         names = compute.check_variables(variables or scene.outputs.variables)
+        # Glint variables first, in the table's order: band 1 of the float
+        # GeoTIFF is then the glint reflectance whenever it is written.
+        order = {v: i for i, v in enumerate(VARIABLES)}
+        floats = tuple(sorted((v for v in names if VARIABLES[v].dtype != "uint8"),
+                              key=order.__getitem__))
+        quicklooks: tuple[str, ...] = ()
+        if "png" in fmts:
+            if tuple(sorted(names, key=order.__getitem__)) == tuple(DEFAULT_VARIABLES):
+                quicklooks = tuple(v for v in DEFAULT_QUICKLOOKS if v in names)
+            else:  # the variables named are the quicklooks drawn
+                quicklooks = check_quicklook_variables(names)
         return cls(
             formats=fmts,
-            float_vars=tuple(v for v in names if VARIABLES[v].dtype != "uint8"),
+            float_vars=floats,
             with_classes="glint_class" in names,
             cog=scene.outputs.cog if cog is None else bool(cog),
             needed=strip_variables(scene, names),
+            quicklooks=quicklooks,
         )
 
     def suffixes(self) -> dict[str, str]:
@@ -124,8 +159,11 @@ class _Request:
         kinds = []
         if "geotiff" in self.formats:
             kinds += (["geotiff"] if self.float_vars else []) + (["classes"] if self.with_classes else [])
-        kinds += [f for f in ("netcdf", "png") if f in self.formats]
-        return {k: _SUFFIXES[k] for k in kinds}
+        kinds += [f for f in ("netcdf",) if f in self.formats]
+        out = {k: _SUFFIXES[k] for k in kinds}
+        out.update({f"png:{v}": _png_suffix(v) for v in self.quicklooks})
+        out["run"] = _SUFFIXES["run"]
+        return out
 
     def estimated_bytes(self, grid: Grid) -> int:
         """Raw size of one time's files: a safe upper bound for the space
@@ -147,14 +185,21 @@ class _TimeContext:
     attrs: dict[str, Any]
     sun_zenith: float
     sun_azimuth: float
+    run: dict[str, str]
 
     @classmethod
-    def build(cls, scene: Scene, t: np.datetime64) -> _TimeContext:
+    def build(cls, scene: Scene, t: np.datetime64, command: str | None) -> _TimeContext:
         plan = compute.plan_geometry(scene, t)
         params = compute.kernel_parameters(scene, t)
         centre = compute.scene_center_summary(scene, t)
-        return cls(t, plan, params, compute.scene_attributes(scene, t, plan, params),
-                   float(centre["sun_zenith"]), float(centre["sun_azimuth"]))
+        attrs = compute.scene_attributes(scene, t, plan, params)
+        note = sun_note(float(centre["sun_zenith"]))
+        if note:
+            attrs["sun_condition"] = note
+        run = run_metadata(scene, t, command)
+        attrs.update(run)  # version, command, cautions and the resolved scene
+        return cls(t, plan, params, attrs, float(centre["sun_zenith"]),
+                   float(centre["sun_azimuth"]), run)
 
 
 @dataclass(frozen=True)
@@ -177,6 +222,7 @@ def _class_flags(scene: Scene) -> ClassFlags:
 def _class_tags(attrs: Mapping[str, Any], flags: ClassFlags) -> dict[str, Any]:
     return {
         **attrs,
+        "glint_class_values": " ".join(str(int(v)) for v in np.asarray(flags.values)),
         "glint_class_names": " ".join(flags.meanings),
         "glint_class_thresholds": " ".join(f"{x:g}" for x in np.asarray(flags.thresholds)),
         "glint_class_variable": flags.variable,
@@ -191,10 +237,11 @@ def _acdd(scene: Scene, attrs: Mapping[str, Any]) -> dict[str, Any]:
             "Per-pixel sun glint reflectance, normalised radiance, glint fraction and glint angle "
             "predicted from sun position, view geometry, water optics and a wave-slope distribution."
         ),
-        "keywords": "sun glint, sunglint angle, Cox-Munk, Fresnel reflectance, remote sensing",
+        "keywords": "sun glint, glint angle, Cox-Munk, Fresnel reflectance, remote sensing",
         "source": f"glint {__version__}",
-        "comment": CAUTION,
-        **attrs,
+        "history": f"{format_time(np.datetime64('now', 's'))} {attrs.get('glint_command', '')}",
+        "comment": " ".join(run_cautions(scene)),
+        **{k: v for k, v in attrs.items() if k not in ("caution",)},
     }
 
 
@@ -205,14 +252,55 @@ def _axis_units(g: Grid) -> str:
         return ""
 
 
-def _quicklook_style(scene: Scene, ctx: _TimeContext) -> QuicklookStyle:
+def _threshold_marks(scene: Scene, variable: str, sun_zenith: float) -> tuple[tuple[float, str], ...]:
+    """The class thresholds in the unit of ``variable`` (for its colour bar).
+
+    Thresholds on the normalised radiance L/E are drawn on a reflectance
+    scale as pi L/E / cos(sun zenith) at the grid centre (and the other way
+    round), the relation of the two quantities (docs/theory.md).
+    """
+    c = scene.classes
+    names = c.names[1:]
+    if variable == c.variable:
+        return tuple(zip(c.thresholds, names))
+    cos_s = math.cos(math.radians(sun_zenith))
+    if cos_s <= 0:
+        return ()
+    if (c.variable, variable) == ("glint_radiance", "glint_reflectance"):
+        return tuple((math.pi * t / cos_s, n) for t, n in zip(c.thresholds, names))
+    if (c.variable, variable) == ("glint_reflectance", "glint_radiance"):
+        return tuple((t * cos_s / math.pi, n) for t, n in zip(c.thresholds, names))
+    return ()
+
+
+def _crs_name(g: Grid) -> str:
+    epsg = g.crs.to_epsg()
+    return f"{g.crs.name} (EPSG:{epsg})" if epsg else str(g.crs.name)
+
+
+def _grid_convergence(g: Grid) -> float:
+    x, y = g.xy(np.array([(g.height - 1) / 2.0]), np.array([(g.width - 1) / 2.0]))
+    lon, lat = g.lonlat(x, y)
+    return float(np.asarray(g.meridian_convergence(lon, lat)).ravel()[0])
+
+
+def _quicklook_style(scene: Scene, ctx: _TimeContext, variable: str) -> QuicklookStyle:
     g = scene.grid
+    c = scene.classes
+    what = VARIABLES[variable].long_name
+    subtitle = (f"{format_time(ctx.time, 'text')}   sun zenith {ctx.sun_zenith:.1f}°, "
+                f"azimuth {ctx.sun_azimuth:.1f}° (grid centre)")
+    note = sun_note(ctx.sun_zenith)
+    if note:
+        subtitle += f"\n{note[0].upper()}{note[1:]}"
     return QuicklookStyle(
-        title=f"{scene.name}: glint reflectance",
-        subtitle=(f"{format_time(ctx.time, 'text')}   sun zenith {ctx.sun_zenith:.1f}°, "
-                  f"azimuth {ctx.sun_azimuth:.1f}° (grid centre)"),
-        label="glint reflectance factor [1]",
+        title=f"{scene.name}: {what}", subtitle=subtitle, crs_name=_crs_name(g),
         axis_units=_axis_units(g), geographic=g.crs.is_geographic,
+        convergence=_grid_convergence(g),
+        marks=_threshold_marks(scene, variable, ctx.sun_zenith),
+        cautions=run_cautions(scene),
+        class_names=tuple(c.names), class_thresholds=tuple(c.thresholds),
+        class_variable_label=f"{c.variable} [{VARIABLES[c.variable].units}]",
     )
 
 
@@ -229,17 +317,23 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
         feeds.append(_Feed(out.writer(files.key("classes"), lambda p: GeoTiffWriter(
             p, g, ["glint_class"], cog=request.cog, compress=comp,
             tags=_class_tags(ctx.attrs, flags),
-            colormap=class_colormap(len(scene.classes.names)))), ("glint_class",)))
+            colormap=class_colormap(len(scene.classes.names)),
+            categories=scene.classes.names)), ("glint_class",)))
     if files.has("netcdf"):
         nc_vars = request.float_vars + (("glint_class",) if request.with_classes else ())
         feeds.append(_Feed(out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
             p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags)),
             nc_vars))
-    if files.has("png"):
-        left, bottom, right, top = g.bounds
-        feeds.append(_Feed(out.writer(files.key("png"), lambda p: QuicklookWriter(
-            p, g.shape, (left, right, bottom, top), "glint_reflectance",
-            _quicklook_style(scene, ctx))), ("glint_reflectance",)))
+    left, bottom, right, top = g.bounds
+
+    def quicklook_writer(variable: str) -> Callable[[Path], QuicklookWriter]:
+        style = _quicklook_style(scene, ctx, variable)
+        return lambda p: QuicklookWriter(p, g.shape, (left, right, bottom, top), variable, style)
+
+    for v in request.quicklooks:
+        feeds.append(_Feed(out.writer(files.key(f"png:{v}"), quicklook_writer(v)), (v,)))
+    record = out.temp(files.key("run"))
+    record.write_text(ctx.run["glint_run_record"], encoding="utf-8")
     return feeds
 
 
@@ -325,6 +419,7 @@ def write_maps(
     block_rows: int = 512,
     progress: Callable[[int, int], None] | None = None,
     blocks: Iterable[Strip] | None = None,
+    command: str | None = None,
 ) -> MapResult:
     """Compute a scene's glint maps and write them, all or nothing.
 
@@ -354,6 +449,19 @@ def write_maps(
         rows in order from row 0. Each strip holds at least
         :func:`strip_variables` ``(scene, variables)``. They are written as
         they arrive, so the stream can be lazy.
+    command : str, optional
+        The command line that made the run, recorded in every file and in
+        the run record (default: "glint Python interface").
+
+    Files
+    -----
+    Per scene time: ``<stem>_glint.tif`` (float variables, glint variables
+    first: band 1 is the glint reflectance), ``<stem>_glint_class.tif``
+    (classes, with a palette and GDAL category names in its ``.aux.xml``),
+    ``<stem>_glint.nc``, PNG quicklooks (``<stem>_glint.png`` of the
+    reflectance and ``<stem>_glint_class.png`` of the classes with the
+    default variables; one per variable named otherwise) and
+    ``<stem>_run.toml``, the resolved scene that reproduces the run.
 
     Returns
     -------
@@ -386,8 +494,8 @@ def write_maps(
     >>> strips = compute.iter_blocks(scene, variables=names)
     >>> res = write_maps(scene, tempfile.mkdtemp(), formats=["geotiff"],
     ...                  variables=["glint_reflectance"], blocks=strips)
-    >>> [p.name for p in res.files]
-    ['saltmarsh_reach_inlet_morning_survey_20260614T103000Z_glint.tif']
+    >>> [p.name.split('Z_')[1] for p in res.files]
+    ['glint.tif', 'run.toml']
     """
     request = _Request.check(scene, formats, variables, cog)
     plan = plan_outputs(scene, outdir, request.suffixes(), overwrite=overwrite)
@@ -401,7 +509,7 @@ def write_maps(
         # streamed run needs the same memory whatever the grid's size.
         compute.check_memory(_memory_needed(request), f"writing the maps of {scene.name!r}")
         for files in plan.times:
-            ctx = _TimeContext.build(scene, files.time)
+            ctx = _TimeContext.build(scene, files.time, command)
             pieces: Iterable[_Piece]
             if given is not None:
                 pieces = ((rows, None, strip) for rows, strip in next(given))
@@ -432,14 +540,8 @@ def _memory_needed(request: _Request) -> int:
 
 
 def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:
-    """Palette of the class raster: the lowest class blue-grey, higher
-    classes yellow to red, no data transparent (our own choice)."""
-    import matplotlib
-
-    cmap = matplotlib.colormaps["YlOrRd"]
-    colours = {0: (70, 110, 140, 255)}
-    for k in range(1, n_classes):
-        r, gr, b, _ = cmap(0.35 + 0.65 * k / max(n_classes - 1, 1))
-        colours[k] = (int(255 * r), int(255 * gr), int(255 * b), 255)
+    """Palette of the class raster: the quicklook's colours, ordered by
+    severity (:func:`glint.io.quicklook.class_palette`); no data transparent."""
+    colours = {k: (*rgb, 255) for k, rgb in enumerate(class_palette(n_classes))}
     colours[CLASS_NODATA] = (0, 0, 0, 0)
     return colours

@@ -210,14 +210,6 @@ class GlintCalendar:
         return out
 
 
-@dataclass(frozen=True)
-class _Conditions:
-    """The parts of a scene that :func:`glint.engine.compute.kernel_parameters` reads."""
-
-    surface: Surface
-    water: Water
-
-
 def _risk(share: float) -> str:
     if share <= 0.0:
         return "none"
@@ -401,7 +393,7 @@ def satellite_calendar(site: SatelliteSite) -> GlintCalendar:
     for d in range(len(dates)):
         surf = Surface(wind_speed=float(ws[d]), wind_direction=None if np.isnan(wd[d]) else float(wd[d]),
                        slope_model=site.slope_model)
-        params = compute.kernel_parameters(_Conditions(surf, site.water), times[d])
+        params = compute.surface_kernel_parameters(surf, site.water, times[d])
         n = offsets.size
         out = glint_kernel(
             np.full(n, float(sun.zenith[d]), np.float32), np.full(n, float(sun.azimuth[d]), np.float32),

@@ -224,7 +224,7 @@ def _write_calendar(out: OutputSet, scan: SurveyScan) -> None:
 
 def _write_preview(out: OutputSet, scan: SurveyScan, time: np.datetime64, heading: float,
                    pitch: float) -> dict[str, Any]:
-    from glint.workflows.camera_view import VIEW_SCALE_MAX, camera_view
+    from glint.workflows.camera_view import camera_view
 
     s = scan.survey
     k = int(np.argmin(np.abs((scan.times - time).astype(np.int64))))
@@ -240,14 +240,18 @@ def _write_preview(out: OutputSet, scan: SurveyScan, time: np.datetime64, headin
     local = to_local(time, s.tz)
     quicklook.quicklook(
         refl, (-0.5, cam.cols - 0.5, cam.rows - 0.5, -0.5), out.temp("preview"),
-        title=f"{s.name}: predicted glint in the photo",
-        subtitle=f"{local.isoformat(timespec='minutes')} local ({format_time(time, 'text')})\n"
-                 f"heading {heading:g}°, pitch {pitch:g}°; sun elevation "
-                 f"{scan.sun_elevation[k]:.1f}°, azimuth {scan.sun_azimuth[k]:.1f}°; "
-                 f"share above {s.limits.glint_threshold:g}: {share * 100:.1f} %\n"
-                 "Plan estimate only: check airspace, weather, line of sight and local rules.",
-        label="glint reflectance factor [1] (fixed scale)", axis_units="px", vmax=VIEW_SCALE_MAX,
-        xlabel="image column [px]", ylabel="image row [px]")
+        variable="glint_reflectance",
+        style=quicklook.QuicklookStyle(
+            title=f"{s.name}: predicted glint in the photo",
+            subtitle=f"{local.isoformat(timespec='minutes')} local ({format_time(time, 'text')})\n"
+                     f"heading {heading:g}°, pitch {pitch:g}°; sun elevation "
+                     f"{scan.sun_elevation[k]:.1f}°, azimuth {scan.sun_azimuth[k]:.1f}°; "
+                     f"share above {s.limits.glint_threshold:g}: {share * 100:.1f} %",
+            image_axes=True,
+            marks=((float(s.limits.glint_threshold), "plan threshold"),),
+            cautions=(quicklook.CAUTION, quicklook.FLIGHT_CAUTION,
+                      "Plan estimate only: check airspace, weather, line of sight and local "
+                      "rules.")))
     return {"utc": format_time(time), "local": local.isoformat(), "heading": heading,
             "pitch": pitch, "glint_share_every_pixel": round(share, 4),
             "pixel_step": step}

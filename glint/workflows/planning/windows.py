@@ -59,7 +59,7 @@ from glint.errors import InputError
 from glint.physics.reflect import glint_kernel
 from glint.physics.sun import solar_position
 from glint.scene import Scene, scene_from_dict
-from glint.sensors import FrameCamera, angles_to_position, ecef_from_lonlat
+from glint.sensors import angles_to_position, ecef_from_lonlat
 from glint.workflows.planning.survey import Survey, WindSeries, scan_times, to_local
 
 __all__ = [
