@@ -62,6 +62,7 @@ __all__ = [
     "iter_blocks",
     "iter_windows",
     "WINDOW_PIXELS",
+    "WINDOW_BYTES",
     "available_memory",
     "check_memory",
     "window_memory",
@@ -643,29 +644,42 @@ def iter_blocks(
         yield rs, compute_window(scene, plan, params, rs, None, variables)
 
 
+#: Largest window of output arrays :func:`iter_windows` yields [bytes]:
+#: strips up to this size stay whole (GDAL writes whole strips fastest),
+#: wider ones are cut into the fewest windows of whole tiles below it.
+WINDOW_BYTES = 128 * 2**20
+
+
 def iter_windows(
     scene: Scene,
     *,
     time: Any = None,
     block_rows: int = 512,
-    max_pixels: int = WINDOW_PIXELS,
+    max_pixels: int | None = None,
     variables: Sequence[str] | None = None,
     plan: GeometryPlan | None = None,
     params: KernelParameters | None = None,
 ) -> Iterator[tuple[slice, slice, dict[str, np.ndarray]]]:
     """Stream windows of the grid: ``(row_slice, col_slice, {name: array})``.
 
-    The strips of :func:`iter_blocks` cut into windows of at most about
-    ``max_pixels`` pixels, left to right, each as wide as a whole number of
-    ``block_rows`` (so that GeoTIFF tiles of that size are written whole):
-    memory stays the same whatever the grid's size *and* width.
+    The strips of :func:`iter_blocks`, cut (when they hold more than
+    ``max_pixels`` pixels; default: :data:`WINDOW_BYTES` of the variables)
+    into the fewest windows of equal width, left to right, each a whole
+    number of ``block_rows`` wide (so that GeoTIFF tiles of that size are
+    written whole): memory stays bounded whatever the grid's size *and*
+    width.
     """
     variables = check_variables(variables)
     t = _scene_time(scene, time)
     plan = plan or plan_geometry(scene, t)
     params = params or kernel_parameters(scene, t)
+    if max_pixels is None:
+        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+        max_pixels = WINDOW_BYTES // max(per_pixel, 1)
     width = scene.grid.width
-    step = max(block_rows, (max_pixels // block_rows) // block_rows * block_rows)
+    pieces = -(-(block_rows * width) // max(int(max_pixels), 1))
+    step = -(-width // pieces)
+    step = -(-step // block_rows) * block_rows
     for r0, r1 in scene.grid.blocks(block_rows):
         rs = slice(r0, r1)
         for c0 in range(0, width, step):
@@ -741,11 +755,10 @@ def check_memory(nbytes: int, what: str) -> None:
 def window_memory(variables: Sequence[str]) -> int:
     """Memory a streamed run of the engine needs beyond the interpreter and
     its libraries [bytes]: three windows of the variables (one written, one
-    computed ahead, one being computed), the per-pixel temporaries of a
-    window (about 120 bytes per pixel) and the tie-point lattices. The same
-    whatever the grid's size."""
-    per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
-    return 3 * WINDOW_PIXELS * per_pixel + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
+    computed ahead, one being computed; at most :data:`WINDOW_BYTES` each),
+    the per-pixel temporaries of a chunk (about 120 bytes per pixel) and the
+    tie-point lattices. The same whatever the grid's size."""
+    return 3 * WINDOW_BYTES + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
 
 
 def compute_dataset(
