@@ -645,9 +645,10 @@ def iter_blocks(
 
 
 #: Largest window of output arrays :func:`iter_windows` yields [bytes]:
-#: strips up to this size stay whole (GDAL writes whole strips fastest),
+#: strips up to this size stay whole (GDAL writes whole strips fastest;
+#: larger windows were measured faster but let memory grow with the width),
 #: wider ones are cut into the fewest windows of whole tiles below it.
-WINDOW_BYTES = 128 * 2**20
+WINDOW_BYTES = 32 * 2**20
 
 
 def iter_windows(
