@@ -123,7 +123,10 @@ def main() -> int:
     ap.add_argument("--repeat", type=int, default=2, help="best of N runs")
     ap.add_argument("--target-speedup", type=float, default=1.7)
     ap.add_argument("--target-overhead", type=float, default=0.10)
+    ap.add_argument("--quick", action="store_true", help="10 scenes, a 1000 px large one: a smoke test")
     args = ap.parse_args()
+    if args.quick:
+        args.scenes, args.large, args.repeat = min(args.scenes, 10), min(args.large, 1000), 1
 
     from glint.scene import load_scene
     from glint.workflows.maps import write_maps
@@ -181,6 +184,11 @@ def main() -> int:
                          f"{speed:.2f}x (target >= {args.target_speedup}x)"))
         verdicts.append(("overhead vs write_maps loop", over <= args.target_overhead,
                          f"{100 * over:+.1f} % (target <= {100 * args.target_overhead:.0f} %)"))
+        # the result lines run_all.py collects (format: benchmarks/README.md)
+        print(f"RESULT batch.speedup_2_vs_1_worker {speed:.4g} x >={args.target_speedup:g} "
+              f"{'PASS' if speed >= args.target_speedup else 'FAIL'}")
+        print(f"RESULT batch.overhead_vs_loop {over:.4g} rel <={args.target_overhead:g} "
+              f"{'PASS' if over <= args.target_overhead else 'FAIL'}")
         split = "strips of rows on both workers, written here"
         ls = times["large1"] / times["large2"]
         print(f"\none scene of {args.large} x {args.large} px: 1 worker {times['large1']:.2f} s, "

@@ -142,7 +142,10 @@ def main() -> int:
     ap.add_argument("--size", type=int, default=10980, help="pixels per side (default 10980)")
     ap.add_argument("--role", choices=["floor", "mask", "correct"], help=argparse.SUPPRESS)
     ap.add_argument("--tmp", type=Path, help=argparse.SUPPRESS)
+    ap.add_argument("--quick", action="store_true", help="a 2048 x 2048 image: a smoke test")
     args = ap.parse_args()
+    if args.quick:
+        args.size = min(args.size, 2048)
     if args.role:
         fn = {"floor": run_floor, "mask": run_mask, "correct": run_correct}[args.role]
         print(json.dumps(fn(args.tmp)))
@@ -163,6 +166,11 @@ def main() -> int:
             print(f"  {role}: {r['seconds']:.2f} s = {ratio:.2f} x floor (target <= "
                   f"{RATIO_TARGET}), peak {r['peak_gb']:.2f} GB (target <= {MEMORY_TARGET_GB}) "
                   f"{'PASS' if good else 'FAIL'}")
+            # the result lines run_all.py collects (format: benchmarks/README.md)
+            print(f"RESULT imagery.{role}_vs_floor {ratio:.4g} x <={RATIO_TARGET:g} "
+                  f"{'PASS' if ratio <= RATIO_TARGET else 'FAIL'}")
+            print(f"RESULT imagery.{role}_peak_memory {r['peak_gb']:.4g} GB <={MEMORY_TARGET_GB:g} "
+                  f"{'PASS' if r['peak_gb'] <= MEMORY_TARGET_GB else 'FAIL'}")
     return 0 if ok else 1
 
 

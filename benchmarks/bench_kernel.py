@@ -46,6 +46,7 @@ import numpy as np
 
 sys.path.insert(0, str(Path(__file__).resolve().parent))
 
+from _results import Result, emit  # noqa: E402
 from textbook_kernel import textbook_glint  # noqa: E402
 
 from glint.physics.reflect import KERNEL_OUTPUTS, glint_kernel, warmup  # noqa: E402
@@ -149,7 +150,11 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--no-memory", action="store_true",
                         help="skip the subprocess memory measurements")
     parser.add_argument("--memory-probe", choices=["fused", "textbook"], help=argparse.SUPPRESS)
+    parser.add_argument("--quick", action="store_true",
+                        help="1 000 000 pixels: a smoke test, not the target")
     args = parser.parse_args(argv)
+    if args.quick:
+        args.pixels = min(args.pixels, 1_000_000)
     if args.pixels <= 0:
         parser.error(f"--pixels must be positive; got {args.pixels!r}")
 
@@ -197,7 +202,11 @@ def main(argv: list[str] | None = None) -> int:
     print(("PASS" if ok else "FAIL")
           + f": speed ratio {ratio:.1f}x (target {args.target:g}x), results "
           + ("agree" if agree else "DISAGREE"))
-    return 0 if ok else 1
+    return emit([
+        Result("kernel.speed_vs_textbook", ratio, "x", ">=", args.target),
+        Result("kernel.fused_speed", n / t_fused / 1e6, "Mpx/s"),
+        Result("kernel.agrees_with_textbook", float(agree), "bool", ">=", 1.0),
+    ])
 
 
 if __name__ == "__main__":

@@ -28,7 +28,10 @@ from glint.workflows.planning.windows import survey_scene  # noqa: E402
 def main() -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--days", type=int, default=31)
+    ap.add_argument("--quick", action="store_true", help="a 3-day scan: a smoke test")
     args = ap.parse_args()
+    if args.quick:
+        args.days = min(args.days, 3)
     end = np.datetime64("2026-07-01") + np.timedelta64(args.days - 1, "D")
     survey = survey_from_dict({
         "survey": {"name": "Bench cove", "start_date": "2026-07-01", "end_date": str(end),
@@ -69,6 +72,9 @@ def main() -> int:
     print(f"ratio: the planner is {baseline / elapsed:.0f}x faster than the per-pixel baseline")
     verdict = "PASS" if elapsed < 30.0 else "FAIL"
     print(f"{verdict}: {args.days}-day scan in {elapsed:.1f} s (target < 30 s on 2 cores)")
+    # the result lines run_all.py collects (format: benchmarks/README.md)
+    print(f"RESULT plan.scan_seconds_{args.days}_days {elapsed:.4g} s <=30 {verdict}")
+    print(f"RESULT plan.speed_vs_per_pixel {baseline / elapsed:.4g} x - INFO")
     return 0
 
 

@@ -15,6 +15,7 @@ __all__ = [
     "SceneError",
     "SensorError",
     "OutputError",
+    "MemoryLimitError",
     "InputFileError",
     "RunStopped",
     "GlintWarning",
@@ -71,6 +72,11 @@ class InputFileError(GlintError, OSError):
 
 class OutputError(GlintError, OSError):
     """An output cannot be written (exists, directory not writable, disk)."""
+
+
+class MemoryLimitError(GlintError, MemoryError):
+    """A job would need more memory than the machine has available; raised
+    before computing, instead of the system stopping the process."""
 
 
 class RunStopped(KeyboardInterrupt):

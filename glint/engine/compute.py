@@ -32,8 +32,9 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from glint.errors import InputError
-from glint.geo.lattice import NODE_STEPS, interpolate_field, plan_lattice
+from glint.errors import InputError, MemoryLimitError
+from glint.geo.grid import Grid
+from glint.geo.lattice import MAX_NODES, NODE_STEPS, LatticePlan, interpolate_field, plan_lattice
 from glint.physics.reflect import glint_kernel
 from glint.physics.sun import SolarPosition, earth_sun_distance, solar_position, sun_solid_angle
 from glint.physics.surface import (
@@ -43,7 +44,7 @@ from glint.physics.surface import (
     slope_variances,
 )
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
-from glint.sensors import GroundPoints
+from glint.sensors import GroundPoints, ViewAngles
 from glint.times import format_time
 from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
 
@@ -59,6 +60,13 @@ __all__ = [
     "direction_error",
     "compute_window",
     "iter_blocks",
+    "iter_windows",
+    "WINDOW_PIXELS",
+    "WINDOW_BYTES",
+    "available_memory",
+    "check_memory",
+    "window_memory",
+    "MEMORY_LIMIT_VARIABLE",
     "compute_dataset",
     "compute_points",
     "check_variables",
@@ -110,6 +118,10 @@ class GeometryPlan:
     nodes: dict[str, FloatArray]
     views_interpolated: bool
     max_error: float
+    #: For view angles evaluated at every pixel: the lattice of the ground
+    #: positions (``lon``, ``lat``, ``convergence``) they are evaluated from,
+    #: or None (ground positions transformed exactly at every pixel).
+    ground: LatticePlan | None = None
 
 
 def kernel_parameters(scene: Scene, time: np.datetime64) -> KernelParameters:
@@ -218,14 +230,73 @@ def _exact_angles(scene: Scene, time: np.datetime64, rows: ArrayLike, cols: Arra
                   views: bool = True) -> dict[str, FloatArray]:
     """Sun (and view) angles computed exactly at pixel indices."""
     pts = GroundPoints.from_pixels(scene.grid, rows, cols)
-    va = scene.sensor.view_angles(pts, time)
-    sp = sun_angles(scene, time if va.time is None else va.time, longitude=pts.lon,
-                    latitude=pts.lat)
-    out = {"sun_zenith": np.asarray(sp.zenith, float), "sun_azimuth": np.asarray(sp.azimuth, float)}
-    if views:
+    va = scene.sensor.view_angles(pts, time) if views else None
+    out = _sun_at(scene, _imaging_times(scene, pts, time, va), pts)
+    if va is not None:
         out["view_zenith"] = np.asarray(va.view_zenith, float)
         out["view_azimuth"] = np.asarray(va.view_azimuth, float)
     return out
+
+
+def _imaging_times(scene: Scene, pts: GroundPoints, time: np.datetime64,
+                   va: ViewAngles | None = None) -> np.datetime64 | NDArray[np.datetime64]:
+    """When each point is imaged: the sensor's smooth field of imaging times
+    if it has one (line scanners: also where the point is not seen, so that
+    sun angles at those times can be interpolated), else the per-point times
+    of its view angles, else the scene time."""
+    smooth_times = getattr(scene.sensor, "imaging_times", None)
+    if smooth_times is not None:
+        return np.asarray(smooth_times(pts, time))
+    if va is None:
+        va = scene.sensor.view_angles(pts, time)
+    return time if va.time is None else np.asarray(va.time)
+
+
+#: Spacing of the times at which the sun is computed exactly when points are
+#: imaged at many different times [ns]; in between, linear in time.
+_SUN_KNOT_NS = 1_000_000_000
+
+
+def _sun_at(scene: Scene, times: np.datetime64 | NDArray[np.datetime64],
+            pts: GroundPoints) -> dict[str, FloatArray]:
+    """Sun zenith and azimuth [°] at ground points and their imaging times.
+
+    One time: the SPA directly. Many times (line scanners): the SPA at the
+    whole seconds on either side of each point's time and linear
+    interpolation between them (azimuths along the shorter arc). The sun's
+    direction turns with an angular acceleration of at most about 5e-9
+    rad s^-2 (the Earth's rotation rate squared), so over one second the
+    interpolation is off by less than 1e-7 degrees; near the zenith the
+    azimuth turns faster, but there an azimuth error moves the direction by
+    the azimuth error times the sine of the zenith angle, which stays as
+    small. NaT times give NaN.
+    """
+    lon, lat = np.asarray(pts.lon, float), np.asarray(pts.lat, float)
+    t = np.asarray(times)
+    if t.ndim == 0 or t.size == 1:
+        sp = sun_angles(scene, t.reshape(()) if t.ndim else t, longitude=lon, latitude=lat)
+        return {"sun_zenith": np.broadcast_to(np.asarray(sp.zenith, float), lon.shape).copy(),
+                "sun_azimuth": np.broadcast_to(np.asarray(sp.azimuth, float), lon.shape).copy()}
+    t = np.broadcast_to(t.astype("datetime64[ns]"), lon.shape)
+    ns = t.astype(np.int64)
+    valid = ~np.isnat(t)
+    zen = np.full(lon.shape, np.nan)
+    azi = np.full(lon.shape, np.nan)
+    knot = np.floor_divide(ns, _SUN_KNOT_NS)
+    for k in np.unique(knot[valid]):
+        sel = valid & (knot == k)
+        w = (ns[sel] - k * _SUN_KNOT_NS) / _SUN_KNOT_NS
+        a = sun_angles(scene, np.datetime64(int(k * _SUN_KNOT_NS), "ns"), longitude=lon[sel],
+                       latitude=lat[sel])
+        if not np.any(w):
+            zen[sel], azi[sel] = a.zenith, a.azimuth
+            continue
+        b = sun_angles(scene, np.datetime64(int((k + 1) * _SUN_KNOT_NS), "ns"),
+                       longitude=lon[sel], latitude=lat[sel])
+        zen[sel] = (1.0 - w) * a.zenith + w * b.zenith
+        da = (np.asarray(b.azimuth) - np.asarray(a.azimuth) + 180.0) % 360.0 - 180.0
+        azi[sel] = (np.asarray(a.azimuth) + w * da) % 360.0
+    return {"sun_zenith": zen, "sun_azimuth": azi}
 
 
 def direction_error(zenith_a: ArrayLike, azimuth_a: ArrayLike, zenith_b: ArrayLike,
@@ -271,12 +342,12 @@ def _nearest_overhead(nodes: Mapping[str, FloatArray]) -> list[tuple[int, int]]:
 
 def plan_geometry(scene: Scene, time: np.datetime64, *,
                   steps: Sequence[int] = NODE_STEPS) -> GeometryPlan:
-    """Choose the node spacing for one scene time (see module docstring).
+    """Choose the node spacings for one scene time (see module docstring).
 
-    The spacing is chosen by :func:`glint.geo.lattice.plan_lattice`, the one
+    The spacings are chosen by :func:`glint.geo.lattice.plan_lattice`, the one
     tie-point planner (also used for longitude/latitude by
     :meth:`glint.geo.grid.Grid.lonlat_rows`): for each spacing, coarsest
-    first, interpolated angles are compared with exact ones at
+    first, interpolated values are compared with exact ones at
 
     * the centres of the lattice cells (the points farthest from the nodes;
       every cell, or 400 x 400 evenly spread cells on larger lattices), and
@@ -286,23 +357,121 @@ def plan_geometry(scene: Scene, time: np.datetime64, *,
     The error is the angle between interpolated and exact directions
     (:func:`direction_error`); a spacing is kept when its largest error is at
     most :data:`glint.geo.lattice.PLAN_MARGIN` times
-    ``scene.tie_point_tolerance``. Sun angles are always interpolated; view
-    angles only for ``scene.sensor.smooth`` sensors.
+    ``scene.tie_point_tolerance``.
+
+    * Sensors far from the grid (``scene.sensor.smooth``): sun and view
+      angles from one lattice, when a spacing meets the bound.
+    * Otherwise (sensors near the grid: their view azimuth turns through
+      360 degrees around the nadir, and images and swaths have sharp edges)
+      the view angles are evaluated at every pixel, by the sensor's compiled
+      loops, from ground positions (longitude, latitude, meridian
+      convergence) interpolated from a second lattice. That lattice is
+      checked by the error it causes in the *view directions*: a ground
+      position off by ``d`` turns the view by about ``d / range``, so a
+      sensor 30 m away needs positions right to 5e-5 m, one 800 km away
+      only to 1 m. The sun angles come from their own lattice, at each
+      point's imaging time for sensors that image points at different
+      times (line scanners).
     """
-    smooth = scene.sensor.smooth
     tol = float(scene.tie_point_tolerance)
+    if scene.sensor.smooth:
+        def exact(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+            return _exact_angles(scene, time, rows, cols, views=True)
+
+        plan = plan_lattice(scene.grid, exact, _max_direction_error, tol, steps=steps,
+                            periodic=("sun_azimuth", "view_azimuth"), focus=_nearest_overhead)
+        if plan.step:
+            log.debug("tie-point step %d: max interpolation error %.3g deg", plan.step,
+                      plan.max_error)
+            return GeometryPlan(time, plan.step, plan.node_rows, plan.node_cols, plan.nodes, True,
+                                plan.max_error)
+
+    def exact_sun(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+        return _exact_angles(scene, time, rows, cols, views=False)
+
+    sun = plan_lattice(scene.grid, exact_sun, _max_direction_error, tol, steps=steps,
+                       periodic=("sun_azimuth",), focus=_nearest_overhead)
+    ground = _plan_ground(scene, time, steps, tol)
+    if not sun.step:
+        log.info("no tie-point spacing meets %.3g deg for the sun; computing it at every pixel", tol)
+    log.debug("sun step %d (%.3g deg), ground step %s", sun.step, sun.max_error,
+              ground.step if ground else "exact")
+    err = max(sun.max_error, ground.max_error if ground else 0.0)
+    return GeometryPlan(time, sun.step, sun.node_rows, sun.node_cols, sun.nodes, False, err,
+                        ground=ground)
+
+
+#: Prefix of a sensor's own ground terms among the ground-lattice fields.
+_TERM = "term:"
+
+
+def _ground_fields(scene: Scene, rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
+    """Exact ground positions at pixel indices (longitude in [0, 360)) and
+    the sensor's own smooth ground terms there."""
+    grid = scene.grid
+    x, y = grid.xy(rows, cols)
+    lon, lat = grid.lonlat(x, y)
+    conv = grid.meridian_convergence(longitude=lon, latitude=lat)
+    out = {"lon": np.mod(lon, 360.0), "lat": lat, "convergence": conv}
+    terms = getattr(scene.sensor, "ground_terms", None)
+    if terms is not None:
+        out.update({_TERM + k: np.asarray(v, float)
+                    for k, v in terms(longitude=lon, latitude=lat).items()})
+    return out
+
+
+def _points(grid: Grid, fields: Mapping[str, NDArray[np.floating]], rows: FloatArray,
+            cols: FloatArray) -> GroundPoints:
+    """Ground points from ground-position fields on 2-D pixel indices (or on
+    read-only broadcasts of a column of rows and a row of columns, which
+    give broadcast x and y: the grid is north-up)."""
+    if rows.ndim == 2 and rows.strides[1] == 0 and cols.strides[0] == 0:
+        x = np.broadcast_to(grid.xy(np.zeros(cols.shape[1]), cols[0])[0][None, :], rows.shape)
+        y = np.broadcast_to(grid.xy(rows[:, 0], np.zeros(rows.shape[0]))[1][:, None], rows.shape)
+    else:
+        x, y = grid.xy(rows, cols)
+    lon = np.asarray(fields["lon"], float)
+    terms = {k[len(_TERM):]: np.asarray(v, float) for k, v in fields.items() if k.startswith(_TERM)}
+    return GroundPoints(x=x, y=y, lon=np.where(lon >= 180.0, lon - 360.0, lon),
+                        lat=np.asarray(fields["lat"], float), row=rows, col=cols,
+                        convergence=np.asarray(fields["convergence"], float), grid=grid,
+                        terms=terms)
+
+
+def _plan_ground(scene: Scene, time: np.datetime64, steps: Sequence[int],
+                 tol: float) -> LatticePlan | None:
+    """Lattice of ground positions whose interpolation turns no view
+    direction (nor the meridian convergence) by more than the tolerance;
+    None when no spacing does."""
+    g = scene.grid
+    sensor = scene.sensor
 
     def exact(rows: FloatArray, cols: FloatArray) -> dict[str, FloatArray]:
-        return _exact_angles(scene, time, rows, cols, views=smooth)
+        return {**_ground_fields(scene, rows, cols), "row": rows, "col": cols}
 
-    plan = plan_lattice(scene.grid, exact, _max_direction_error, tol, steps=steps,
-                        periodic=("sun_azimuth", "view_azimuth"), focus=_nearest_overhead)
-    if not plan.step:
-        log.info("no tie-point spacing meets %.3g deg; computing every pixel exactly", tol)
-        return GeometryPlan(time, 0, None, None, {}, False, 0.0)
-    log.debug("tie-point step %d: max interpolation error %.3g deg", plan.step, plan.max_error)
-    return GeometryPlan(time, plan.step, plan.node_rows, plan.node_cols, plan.nodes, smooth,
-                        plan.max_error)
+    def error(approx: Mapping[str, NDArray[np.floating]], exact_f: Mapping[str, FloatArray]) -> float:
+        rows, cols = exact_f["row"], exact_f["col"]
+        a = sensor.view_angles(_points(g, approx, rows, cols), time)
+        b = sensor.view_angles(_points(g, exact_f, rows, cols), time)
+        d = direction_error(a.view_zenith, a.view_azimuth, b.view_zenith, b.view_azimuth)
+        d = d[np.isfinite(d)]
+        conv = np.abs(np.asarray(approx["convergence"]) - exact_f["convergence"])
+        conv = conv[np.isfinite(conv)]
+        return max(float(d.max()) if d.size else 0.0, float(conv.max()) if conv.size else 0.0)
+
+    def focus(nodes: Mapping[str, FloatArray]) -> list[tuple[int, int]]:
+        # The node nearest the sensor's nadir: the view direction is most
+        # sensitive to the ground position there.
+        vz = np.asarray(sensor.view_angles(_points(g, nodes, nodes["row"], nodes["col"]),
+                                           time).view_zenith, float)
+        if not np.isfinite(vz).any():
+            return []
+        ir, ic = np.unravel_index(np.nanargmin(vz), vz.shape)
+        return [(int(ir), int(ic))]
+
+    plan = plan_lattice(g, exact, error, tol, steps=steps, periodic=("lon",), focus=focus,
+                        require_finite=True)
+    return plan if plan.step else None
 
 
 def classify(values: ArrayLike, thresholds: Sequence[float]) -> NDArray[np.uint8]:
@@ -322,7 +491,7 @@ def classify(values: ArrayLike, thresholds: Sequence[float]) -> NDArray[np.uint8
     return out
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _classify_loop(v: NDArray[np.floating], thresholds: FloatArray,
                    out: NDArray[np.uint8]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(v.size):
@@ -336,6 +505,12 @@ def _classify_loop(v: NDArray[np.floating], thresholds: FloatArray,
         out[i] = k
 
 
+#: Pixels computed in one pass of :func:`compute_window` (larger windows are
+#: computed in column chunks of at most this size): bounds the float64
+#: temporaries of per-pixel view geometry (about 100 bytes per pixel).
+WINDOW_PIXELS = 1 << 20
+
+
 def compute_window(
     scene: Scene,
     plan: GeometryPlan,
@@ -347,34 +522,57 @@ def compute_window(
     """Every requested variable for one window of the grid.
 
     Returns float32 arrays (uint8 for ``glint_class``) of the window's shape.
+    Windows of more than :data:`WINDOW_PIXELS` pixels are computed in column
+    chunks, so the temporaries stay bounded whatever the window's width.
     """
     g = scene.grid
     col_slice = col_slice or slice(0, g.width)
-    rows = np.arange(row_slice.start, row_slice.stop, dtype=float)
-    cols = np.arange(col_slice.start, col_slice.stop, dtype=float)
+    r0, r1, _ = row_slice.indices(g.height)
+    c0, c1, _ = col_slice.indices(g.width)
+    width = max(WINDOW_PIXELS // max(r1 - r0, 1), 512)
+    if c1 - c0 <= width:
+        return _compute_chunk(scene, plan, params, r0, r1, c0, c1, variables)
+    out: dict[str, np.ndarray] = {}
+    for a in range(c0, c1, width):
+        b = min(a + width, c1)
+        part = _compute_chunk(scene, plan, params, r0, r1, a, b, variables)
+        for name, arr in part.items():
+            if name not in out:
+                out[name] = np.empty((r1 - r0, c1 - c0), dtype=arr.dtype)
+            out[name][:, a - c0:b - c0] = arr
+    return out
+
+
+def _compute_chunk(scene: Scene, plan: GeometryPlan, params: KernelParameters, r0: int, r1: int,
+                   c0: int, c1: int, variables: Sequence[str]) -> dict[str, np.ndarray]:
+    rows = np.arange(r0, r1, dtype=float)
+    cols = np.arange(c0, c1, dtype=float)
     ang: Angles = {}
-    if not plan.step or not plan.views_interpolated:
-        rr, cc = np.meshgrid(rows, cols, indexing="ij")
     if plan.step and plan.node_rows is not None and plan.node_cols is not None:
         for name, vals in plan.nodes.items():
             ang[name] = interpolate_field(vals, plan.node_rows, plan.node_cols, rows, cols,
                                           periodic=name.endswith("azimuth"), dtype=np.float32)
-        if not plan.views_interpolated:
+    if not plan.views_interpolated:
+        # Row and column indices (and from them x and y) as broadcasts: no
+        # per-pixel memory.
+        rr, cc = np.broadcast_arrays(rows[:, None], cols[None, :])
+        if plan.ground is not None:
+            ground = plan.ground
+            fields = {k: ground.interpolate(k, rows, cols) for k in ground.nodes
+                      if k not in ("row", "col")}
+            pts = _points(scene.grid, fields, rr, cc)
+        else:
             pts = GroundPoints.from_pixels(scene.grid, rr, cc)
-            va = scene.sensor.view_angles(pts, plan.time)
-            ang["view_zenith"] = np.asarray(va.view_zenith, float)
-            ang["view_azimuth"] = np.asarray(va.view_azimuth, float)
-            if va.time is not None:
-                # Per-pixel imaging times from a sensor that is not smooth:
-                # the sun is evaluated exactly where the pixel is seen.
-                seen = np.isfinite(ang["view_zenith"])
-                if np.any(seen):
-                    sp = sun_angles(scene, np.asarray(va.time)[seen], longitude=pts.lon[seen],
-                                    latitude=pts.lat[seen])
-                    ang["sun_zenith"][seen] = sp.zenith
-                    ang["sun_azimuth"][seen] = sp.azimuth
-    else:
-        ang = dict(_exact_angles(scene, plan.time, rr, cc))
+        va = scene.sensor.view_angles(pts, plan.time)
+        ang["view_zenith"] = np.asarray(va.view_zenith, np.float32)
+        ang["view_azimuth"] = np.asarray(va.view_azimuth, np.float32)
+        if not plan.step:
+            # No sun lattice met the bound: the sun at every pixel, at its
+            # imaging time.
+            sun = _sun_at(scene, _imaging_times(scene, pts, plan.time, va), pts)
+            ang["sun_zenith"] = sun["sun_zenith"]
+            ang["sun_azimuth"] = sun["sun_azimuth"]
+        del pts, va
 
     f32 = {k: np.ascontiguousarray(v, dtype=np.float32) for k, v in ang.items()}
     return _kernel_outputs(f32, params, scene.classes, variables)
@@ -446,6 +644,124 @@ def iter_blocks(
         yield rs, compute_window(scene, plan, params, rs, None, variables)
 
 
+#: Largest window of output arrays :func:`iter_windows` yields [bytes]:
+#: strips up to this size stay whole (GDAL writes whole strips fastest;
+#: larger windows were measured faster but let memory grow with the width),
+#: wider ones are cut into the fewest windows of whole tiles below it.
+WINDOW_BYTES = 32 * 2**20
+
+
+def iter_windows(
+    scene: Scene,
+    *,
+    time: Any = None,
+    block_rows: int = 512,
+    max_pixels: int | None = None,
+    variables: Sequence[str] | None = None,
+    plan: GeometryPlan | None = None,
+    params: KernelParameters | None = None,
+) -> Iterator[tuple[slice, slice, dict[str, np.ndarray]]]:
+    """Stream windows of the grid: ``(row_slice, col_slice, {name: array})``.
+
+    The strips of :func:`iter_blocks`, cut (when they hold more than
+    ``max_pixels`` pixels; default: :data:`WINDOW_BYTES` of the variables)
+    into the fewest windows of equal width, left to right, each a whole
+    number of ``block_rows`` wide (so that GeoTIFF tiles of that size are
+    written whole): memory stays bounded whatever the grid's size *and*
+    width.
+    """
+    variables = check_variables(variables)
+    t = _scene_time(scene, time)
+    plan = plan or plan_geometry(scene, t)
+    params = params or kernel_parameters(scene, t)
+    if max_pixels is None:
+        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+        max_pixels = WINDOW_BYTES // max(per_pixel, 1)
+    width = scene.grid.width
+    pieces = -(-(block_rows * width) // max(int(max_pixels), 1))
+    step = -(-width // pieces)
+    step = -(-step // block_rows) * block_rows
+    for r0, r1 in scene.grid.blocks(block_rows):
+        rs = slice(r0, r1)
+        for c0 in range(0, width, step):
+            cs = slice(c0, min(c0 + step, width))
+            yield rs, cs, compute_window(scene, plan, params, rs, cs, variables)
+
+
+#: Environment variable capping the memory glint may use [MiB] (batch jobs on
+#: shared machines); without it, the memory the system reports available.
+MEMORY_LIMIT_VARIABLE = "GLINT_MEMORY_LIMIT_MB"
+
+
+def available_memory() -> int | None:
+    """Memory this process may still use [bytes], or None when unknown.
+
+    The smallest of: the system's available memory (``MemAvailable`` of
+    ``/proc/meminfo``), what is left under a cgroup (container) limit, what
+    is left under the process's address-space limit (``ulimit -v``), and
+    :data:`MEMORY_LIMIT_VARIABLE` (minus what the process already holds).
+    """
+    import os
+    import resource
+
+    limits: list[int] = []
+    rss = 0
+    try:
+        with open("/proc/self/statm") as f:
+            fields = f.read().split()
+        page = os.sysconf("SC_PAGE_SIZE")
+        vsize, rss = int(fields[0]) * page, int(fields[1]) * page
+        soft, _ = resource.getrlimit(resource.RLIMIT_AS)
+        if soft != resource.RLIM_INFINITY:
+            limits.append(max(soft - vsize, 0))
+    except (OSError, ValueError, IndexError, AttributeError):
+        pass
+    try:
+        with open("/proc/meminfo") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    limits.append(int(line.split()[1]) * 1024)
+                    break
+    except (OSError, ValueError, IndexError):
+        pass
+    try:
+        with open("/sys/fs/cgroup/memory.max") as f:
+            cap = f.read().strip()
+        with open("/sys/fs/cgroup/memory.current") as f:
+            used = int(f.read().strip())
+        if cap != "max":
+            limits.append(max(int(cap) - used, 0))
+    except (OSError, ValueError):
+        pass
+    env = os.environ.get(MEMORY_LIMIT_VARIABLE)
+    if env:
+        try:
+            limits.append(max(int(float(env) * 2**20) - rss, 0))
+        except ValueError as exc:
+            raise InputError(f"{MEMORY_LIMIT_VARIABLE} must be a number of MiB; got {env!r}") from exc
+    return min(limits) if limits else None
+
+
+def check_memory(nbytes: int, what: str) -> None:
+    """Raise :class:`~glint.errors.MemoryLimitError` before computing when
+    ``what`` needs more memory (``nbytes``) than :func:`available_memory`."""
+    avail = available_memory()
+    if avail is not None and nbytes > avail:
+        raise MemoryLimitError(
+            f"{what} needs about {nbytes / 2**20:,.0f} MiB of memory, but only "
+            f"{avail / 2**20:,.0f} MiB are still available to this process (system, "
+            f"container, ulimit or {MEMORY_LIMIT_VARIABLE}); free memory or raise the limit")
+
+
+def window_memory(variables: Sequence[str]) -> int:
+    """Memory a streamed run of the engine needs beyond the interpreter and
+    its libraries [bytes]: three windows of the variables (one written, one
+    computed ahead, one being computed; at most :data:`WINDOW_BYTES` each),
+    the per-pixel temporaries of a chunk (about 120 bytes per pixel) and the
+    tie-point lattices. The same whatever the grid's size."""
+    return 3 * WINDOW_BYTES + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
+
+
 def compute_dataset(
     scene: Scene,
     *,
@@ -483,6 +799,10 @@ def compute_dataset(
     params = kernel_parameters(scene, t)
     data: dict[str, Any]
     if chunks is None:
+        check_memory(g.size * sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+                     + window_memory(variables),
+                     f"an in-memory dataset of {g.height} x {g.width} pixels (give chunks= for a "
+                     "lazy one, or write maps strip by strip)")
         data = {v: np.empty(g.shape, dtype=VARIABLES[v].dtype) for v in variables}
         for rs, block in iter_blocks(scene, time=t, variables=variables, plan=plan):
             for v in variables:

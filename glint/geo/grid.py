@@ -636,8 +636,10 @@ class Grid:
         lon, lat = transformer_to_lonlat(self.crs).transform(x, y)
         return np.asarray(lon, dtype=float), np.asarray(lat, dtype=float)
 
-    def lonlat_rows(self, row_start: int, row_stop: int) -> tuple[FloatArray, FloatArray]:
-        """Longitude and latitude [°] of every pixel centre in a strip of rows.
+    def lonlat_rows(self, row_start: int, row_stop: int, col_start: int = 0,
+                    col_stop: int | None = None) -> tuple[FloatArray, FloatArray]:
+        """Longitude and latitude [°] of every pixel centre in a strip of rows
+        (or, with ``col_start``/``col_stop``, in a window of it).
 
         Interpolated from a node lattice when that stays within
         :data:`LONLAT_TOLERANCE` of the exact transformation (checked at the
@@ -649,14 +651,15 @@ class Grid:
 
         Returns
         -------
-        lon, lat : numpy.ndarray, shape (row_stop - row_start, width)
+        lon, lat : numpy.ndarray, shape (row_stop - row_start, col_stop - col_start)
             Longitudes in [-180, 180) and latitudes.
         """
+        col_stop = self.width if col_stop is None else col_stop
         rows = np.arange(row_start, row_stop, dtype=float)
-        cols = np.arange(self.width, dtype=float)
+        cols = np.arange(col_start, col_stop, dtype=float)
         plan = _lonlat_plan(self)
         if plan is None:
-            return self.lonlat(*self.window_xy(row_start, row_stop))
+            return self.lonlat(*self.window_xy(row_start, row_stop, col_start, col_stop))
         lon = np.asarray(plan.interpolate("longitude", rows, cols), dtype=float)
         lon = np.where(lon >= 180.0, lon - 360.0, lon)
         return lon, np.asarray(plan.interpolate("latitude", rows, cols), dtype=float)

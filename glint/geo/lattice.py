@@ -33,6 +33,7 @@ if TYPE_CHECKING:
 __all__ = [
     "NODE_STEPS",
     "PLAN_MARGIN",
+    "MAX_NODES",
     "CHECK_CELLS",
     "LatticePlan",
     "plan_lattice",
@@ -52,6 +53,14 @@ NODE_STEPS: tuple[int, ...] = (64, 32, 16, 8, 4, 2)
 #: those checked (cell centres understate the largest error of smooth
 #: azimuth fields by up to about 10 %).
 PLAN_MARGIN = 0.8
+#: Largest lattice a plan tries [nodes]: the exact fields of every node are
+#: held in memory, so finer spacings on large grids would make memory grow
+#: with the grid (a lattice of a quarter of the pixels costs more than
+#: computing the pixels). Spacings giving more nodes are skipped.
+MAX_NODES = 1 << 18
+#: A plan stops trying finer spacings when the error expected at the finest
+#: (quadratic fall with the spacing) is this many times above the bound.
+_GIVE_UP = 4.0
 #: Rows (and columns) of lattice cells whose centres are checked: every cell
 #: of lattices up to this size, this many evenly spread cells on larger ones.
 CHECK_CELLS = 400
@@ -100,15 +109,16 @@ def node_axes(shape: tuple[int, int], step: int) -> tuple[FloatArray, FloatArray
     return _node_axis(shape[0], int(step)), _node_axis(shape[1], int(step))
 
 
-def lattices(grid: Grid, steps: Sequence[int] = NODE_STEPS
+def lattices(grid: Grid, steps: Sequence[int] = NODE_STEPS, *, max_nodes: int = MAX_NODES
              ) -> Iterator[tuple[int, FloatArray, FloatArray]]:
     """``(step, node_rows, node_cols)`` for each spacing in ``steps`` that
-    gives a lattice of at least 2 x 2 nodes (coarser ones are skipped)."""
+    gives a lattice of at least 2 x 2 nodes and at most ``max_nodes`` nodes
+    (coarser and finer ones are skipped)."""
     for step in steps:
         if step >= max(grid.shape):
             continue
         node_rows, node_cols = node_axes(grid.shape, step)
-        if len(node_rows) >= 2 and len(node_cols) >= 2:
+        if len(node_rows) >= 2 and len(node_cols) >= 2 and len(node_rows) * len(node_cols) <= max_nodes:
             yield step, node_rows, node_cols
 
 
@@ -157,7 +167,12 @@ def plan_lattice(
     farthest from the nodes) and, for each node returned by ``focus``, a
     dense set of points in the cells around it (where a field turns fastest).
     A spacing is kept when the largest error is at most
-    :data:`PLAN_MARGIN` ``* tolerance``.
+    :data:`PLAN_MARGIN` ``* tolerance``. Lattices of more than
+    :data:`MAX_NODES` nodes are not tried, so that planning costs bounded
+    memory whatever the grid size; finer spacings are not tried once the
+    error expected at the finest one (falling with the square of the
+    spacing, as bilinear interpolation errors of smooth fields do) is still
+    four times over the bound.
 
     Parameters
     ----------
@@ -186,7 +201,8 @@ def plan_lattice(
         Step 0 (no lattice) when no spacing meets the tolerance.
     """
     per = frozenset(periodic)
-    for step, node_rows, node_cols in lattices(grid, steps):
+    candidates = list(lattices(grid, steps))
+    for n, (step, node_rows, node_cols) in enumerate(candidates):
         nr, nc = np.meshgrid(node_rows, node_cols, indexing="ij")
         nodes = exact(nr, nc)
         if require_finite and not all(np.isfinite(v).all() for v in nodes.values()):
@@ -202,6 +218,13 @@ def plan_lattice(
             err = max(err, error(approx, exact(rr, cc)))
         if err <= PLAN_MARGIN * tolerance:
             return LatticePlan(step, node_rows, node_cols, nodes, err, per)
+        # Bilinear interpolation errors of smooth fields fall with the square
+        # of the spacing; fields that are not smooth (an azimuth around a
+        # nadir) do not improve at all. When even the finest spacing left
+        # would miss the bound by 4x on that rule, stop trying.
+        finest = min((c[0] for c in candidates[n + 1:]), default=None)
+        if finest is None or err * (finest / step) ** 2 > _GIVE_UP * PLAN_MARGIN * tolerance:
+            break
     return LatticePlan(0, None, None, {}, 0.0, per)
 
 
@@ -244,7 +267,7 @@ def _lattice_weights(
             ic.astype(np.intp), tc.astype(np.float64))
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _bilinear_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray, ic: NDArray[np.intp],
                    tc: FloatArray, out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled
     """One pass of bilinear interpolation over the output."""
@@ -265,7 +288,7 @@ def _near(a: float, ref: float) -> float:  # pragma: no cover - compiled
     return a - 360.0 * math.floor((a - ref + 180.0) / 360.0)
 
 
-@numba.njit(parallel=True, cache=True)
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _bilinear_azimuth_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray,
                            ic: NDArray[np.intp], tc: FloatArray,
                            out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled

@@ -72,7 +72,8 @@ class FootprintWriter:
         self.path = Path(path)
         self._collection = footprint_feature_collection(lon, lat, properties)
 
-    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike]) -> None:
+    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike],
+              cols: slice | Sequence[int] | None = None) -> None:
         """A footprint needs no strips."""
 
     def close(self) -> None:

@@ -30,7 +30,7 @@ from glint.geo.grid import Grid
 from glint.io.naming import check_free_space
 from glint.io.outputset import OutputSet
 from glint.io.strips import StripArrays, check_variables, dataset_strips, dataset_variables, \
-    row_range, strip_arrays
+    col_range, row_range, strip_arrays
 from glint.variables import CLASS_NODATA, VARIABLES
 
 __all__ = ["GeoTiffWriter", "write_dataset_geotiff", "write_category_sidecar", "COMPRESSIONS",
@@ -224,9 +224,10 @@ class GeoTiffWriter:
     num_threads : str or int, optional
         GDAL compression threads, default ``"ALL_CPUS"``.
     cache_mb : int, optional
-        GDAL block cache while writing [MB], default 256: full strips are
-        compressed and flushed as they arrive, so memory stays bounded
-        whatever the grid size.
+        GDAL block cache while writing [MB], default 256: strips and windows
+        of whole tiles are compressed and flushed as they arrive, so memory
+        stays bounded whatever the grid size (a smaller cache makes GDAL
+        re-read more of the file when it builds the overviews).
     colormap : mapping of int to (r, g, b, a), optional
         Palette of a one-band uint8 file (GIS software shows the classes in
         these colours).
@@ -355,24 +356,29 @@ class GeoTiffWriter:
             self.abort()
             raise
 
-    def write(self, rows: slice | Sequence[int], arrays: StripArrays) -> None:
-        """Write full-width rows of every variable.
+    def write(self, rows: slice | Sequence[int], arrays: StripArrays,
+              cols: slice | Sequence[int] | None = None) -> None:
+        """Write rows of every variable: full-width, or a window of them.
 
         Parameters
         ----------
         rows : slice or (int, int)
             Rows of the grid (step 1).
         arrays : mapping or sequence
-            One ``(rows, width)`` array per variable, by name or in order;
+            One ``(rows, columns)`` array per variable, by name or in order;
             converted to the file's data type.
+        cols : slice or (int, int), optional
+            Columns of the window (default: all). Windows whose edges fall on
+            tile edges (multiples of ``blocksize``) write whole tiles.
         """
         from rasterio.windows import Window
 
         if self._dst is None:
             raise OutputError(f"GeoTIFF writer for {str(self.path)!r} is closed")
         r0, r1 = row_range(rows, self.grid.height)
-        data = strip_arrays(self.variables, arrays, (r1 - r0, self.grid.width))
-        window = Window(0, r0, self.grid.width, r1 - r0)
+        c0, c1 = col_range(cols, self.grid.width)
+        data = strip_arrays(self.variables, arrays, (r1 - r0, c1 - c0))
+        window = Window(c0, r0, c1 - c0, r1 - r0)
         with self._env():
             for i, a in enumerate(data, start=1):
                 self._dst.write(a.astype(self.dtype, copy=False), i, window=window)

@@ -168,16 +168,18 @@ class ProfileWriter:
             self.abort()
             raise
 
-    def write(self, rows: slice, arrays: Mapping[str, NDArray[Any]]) -> None:
-        """Write the strip ``rows``: ``arrays[BANDS]`` of shape (count, rows,
-        width) (or (rows, width) for one band), and ``arrays["mask"]``
-        (True = valid) when the file has a mask."""
+    def write(self, rows: slice, arrays: Mapping[str, NDArray[Any]],
+              cols: slice | None = None) -> None:
+        """Write the strip ``rows`` (or its window ``cols``): ``arrays[BANDS]``
+        of shape (count, rows, columns) (or (rows, columns) for one band), and
+        ``arrays["mask"]`` (True = valid) when the file has a mask."""
         from rasterio.windows import Window
 
         if self._dst is None:
             raise OutputError(f"raster writer for {str(self.path)!r} is closed")
         r0, r1, _ = rows.indices(self._dst.height)
-        window = Window(0, r0, self._dst.width, r1 - r0)
+        c0, c1, _ = (cols or slice(None)).indices(self._dst.width)
+        window = Window(c0, r0, c1 - c0, r1 - r0)
         data = np.asarray(arrays[BANDS])
         if data.ndim == 2:
             data = data[None]

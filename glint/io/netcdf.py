@@ -40,7 +40,7 @@ from glint.geo.grid import Grid
 from glint.io.naming import check_free_space
 from glint.io.outputset import OutputSet
 from glint.io.strips import StripArrays, check_variables, dataset_strips, dataset_variables, \
-    row_range, strip_arrays
+    col_range, row_range, strip_arrays
 from glint.times import format_time
 from glint.variables import CLASS_NODATA, VARIABLES
 
@@ -408,35 +408,40 @@ class NetCDFWriter:
         return _nc_attrs(attrs)
 
     # -- strips
-    def write(self, rows: slice | Sequence[int], arrays: StripArrays) -> None:
-        """Write full-width rows of every variable (and of lat/lon).
+    def write(self, rows: slice | Sequence[int], arrays: StripArrays,
+              cols: slice | Sequence[int] | None = None) -> None:
+        """Write rows of every variable (and of lat/lon): full-width, or a
+        window of them.
 
         Parameters
         ----------
         rows : slice or (int, int)
             Rows of the grid (step 1).
         arrays : mapping or sequence
-            One ``(rows, width)`` array per variable, by name or in order.
+            One ``(rows, columns)`` array per variable, by name or in order.
             On an :class:`ImageGrid`, a mapping that also holds the strip's
             ``"lon"`` and ``"lat"`` [°] (NaN where a pixel sees no water).
+        cols : slice or (int, int), optional
+            Columns of the window (default: all).
         """
         if self._nc is None:
             raise OutputError(f"NetCDF writer for {str(self.path)!r} is closed")
         r0, r1 = row_range(rows, self.grid.height)
-        shape = (r1 - r0, self.grid.width)
+        c0, c1 = col_range(cols, self.grid.width)
+        shape = (r1 - r0, c1 - c0)
         data = strip_arrays(self.variables, arrays, shape)
         for name, a in zip(self.variables, data):
-            self._nc.variables[name][r0:r1, :] = a.astype(VARIABLES[name].dtype, copy=False)
+            self._nc.variables[name][r0:r1, c0:c1] = a.astype(VARIABLES[name].dtype, copy=False)
         if isinstance(self.grid, ImageGrid):
             if not isinstance(arrays, Mapping):
                 raise InputError("write() on an ImageGrid takes a mapping holding the strip's "
                                  f"'lon' and 'lat' besides the variables; got {type(arrays)!r}")
             lon, lat = strip_arrays(("lon", "lat"), arrays, shape)
         else:
-            lon, lat = self.grid.lonlat_rows(r0, r1)
+            lon, lat = self.grid.lonlat_rows(r0, r1, c0, c1)
         if self.lonlat:
-            self._nc.variables["lat"][r0:r1, :] = lat
-            self._nc.variables["lon"][r0:r1, :] = lon
+            self._nc.variables["lat"][r0:r1, c0:c1] = lat
+            self._nc.variables["lon"][r0:r1, c0:c1] = lon
         self._extend_range(lon, lat)
 
     def _extend_range(self, lon: ArrayLike, lat: ArrayLike) -> None:

@@ -81,7 +81,8 @@ class OutputWriter(Protocol):
     """What every file writer of glint does (GeoTIFF, NetCDF, PNG, GeoJSON).
 
     A writer is built on the temporary path an :class:`OutputSet` gives it,
-    receives the grid's strips in order with :meth:`write` (a writer that
+    receives the grid's strips (or windows of strips, left to right) in
+    order with :meth:`write` (a writer that
     needs no strips, such as a GeoJSON footprint, ignores them), finishes its
     file in :meth:`close`, and releases what it holds in :meth:`abort` (the
     output set removes the file).
@@ -89,8 +90,10 @@ class OutputWriter(Protocol):
 
     path: Path
 
-    def write(self, rows: slice, arrays: Mapping[str, NDArray[np.generic]]) -> None:
-        """Take the strip ``rows`` of each named variable."""
+    def write(self, rows: slice, arrays: Mapping[str, NDArray[np.generic]],
+              cols: slice | None = None) -> None:
+        """Take the strip ``rows`` of each named variable (or, with ``cols``,
+        the window ``rows x cols`` of it)."""
 
     def close(self) -> None:
         """Finish the file at :attr:`path`."""

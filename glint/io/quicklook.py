@@ -27,7 +27,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from glint.errors import InputError
-from glint.io.strips import row_range
+from glint.io.strips import col_range, row_range
 from glint.variables import CLASS_NODATA
 
 __all__ = ["quicklook", "class_quicklook", "decimation_step", "QuicklookWriter",
@@ -443,22 +443,33 @@ class QuicklookWriter:
         self.variable = variable
         self.style = style
         self.step = decimation_step(self.shape, max_pixels)
-        self._rows: list[NDArray[Any]] = []
+        # The decimated copy (every step-th row and column), filled as
+        # strips or windows arrive.
+        classes = variable == "glint_class"
+        self._field: NDArray[Any] | None = np.full(
+            (-(-self.shape[0] // self.step), -(-self.shape[1] // self.step)),
+            CLASS_NODATA if classes else np.nan, np.uint8 if classes else np.float32)
         self._done = False
 
-    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike]) -> None:
-        """Keep every ``step``-th row and column of the strip's variable."""
+    def write(self, rows: slice | Sequence[int], arrays: Mapping[str, ArrayLike],
+              cols: slice | Sequence[int] | None = None) -> None:
+        """Keep every ``step``-th row and column of the strip's (or window's) variable."""
         r0, r1 = row_range(rows, self.shape[0])
+        c0, c1 = col_range(cols, self.shape[1])
+        if self._field is None:
+            return
         values = np.asarray(arrays[self.variable])
-        first = (-r0) % self.step
-        self._rows.append(values[first::self.step, ::self.step])
+        fr, fc = (-r0) % self.step, (-c0) % self.step
+        part = values[fr::self.step, fc::self.step]
+        i0, j0 = (r0 + fr) // self.step, (c0 + fc) // self.step
+        self._field[i0:i0 + part.shape[0], j0:j0 + part.shape[1]] = part
 
     def close(self) -> None:
         """Draw the PNG."""
         if self._done:
             return
-        if self._rows:
-            data = np.concatenate(self._rows, axis=0)
+        if self._field is not None:
+            data = self._field
         elif self.variable == "glint_class":
             data = np.full((1, 1), CLASS_NODATA, dtype=np.uint8)
         else:
@@ -468,9 +479,9 @@ class QuicklookWriter:
         else:
             quicklook(data, self.extent, self.path, variable=self.variable, style=self.style)
         self._done = True
-        self._rows.clear()
+        self._field = None
 
     def abort(self) -> None:
         """Drop the decimated copy; the file is removed by the output set."""
-        self._rows.clear()
+        self._field = None
         self._done = True

@@ -3,7 +3,10 @@ of each strip's arrays, and the strips of an in-memory (or dask-backed)
 dataset.
 
 A *strip* is a run of whole grid rows, ``(rows, {variable: array})``, as
-:func:`glint.engine.compute.iter_blocks` yields them.
+:func:`glint.engine.compute.iter_blocks` yields them; writers also take a
+*window* of a strip (its rows and a run of columns, ``cols=``), as
+:func:`glint.engine.compute.iter_windows` yields them, so that memory does
+not grow with the grid's width.
 """
 
 from __future__ import annotations
@@ -17,7 +20,8 @@ from numpy.typing import ArrayLike, NDArray
 from glint.errors import InputError
 from glint.variables import VARIABLES
 
-__all__ = ["check_variables", "row_range", "strip_arrays", "dataset_strips", "dataset_variables"]
+__all__ = ["check_variables", "row_range", "col_range", "strip_arrays", "dataset_strips",
+           "dataset_variables"]
 
 #: What a writer accepts as the arrays of a strip: one array per variable,
 #: by name or in the writer's variable order.
@@ -69,6 +73,24 @@ def row_range(row_slice: slice | Sequence[int], height: int) -> tuple[int, int]:
     if not 0 <= r0 < r1 <= height:
         raise InputError(f"rows {row_slice!r} outside the grid's 0..{height} rows")
     return r0, r1
+
+
+def col_range(cols: slice | Sequence[int] | None, width: int) -> tuple[int, int]:
+    """``(col_start, col_stop)`` of a window of a strip (``None``: every
+    column), checked against the grid width.
+
+    Examples
+    --------
+    >>> col_range(None, 10), col_range(slice(4, 8), 10)
+    ((0, 10), (4, 8))
+    """
+    if cols is None:
+        return 0, width
+    try:
+        return row_range(cols, width)
+    except InputError as exc:
+        raise InputError(f"columns {cols!r}: must be a slice (step 1) within the grid's "
+                         f"0..{width} columns") from exc
 
 
 def strip_arrays(names: Sequence[str], arrays: StripArrays,

@@ -157,7 +157,7 @@ def _nb_sincosd(d, F):  # type: ignore[no-untyped-def]  # pragma: no cover - com
 _CHUNK = 512
 
 
-@njit(parallel=True, cache=True, fastmath=_FASTMATH, error_model="numpy")
+@njit(parallel=True, cache=True, nogil=True, fastmath=_FASTMATH, error_model="numpy")
 def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type: ignore[no-untyped-def]
                gc, use_gc, shadow, mss_shadow, omega_sun,
                o_angle, o_refl, o_rad, o_frac, F,

@@ -32,6 +32,7 @@ from glint.validation import (
     check_range,
 )
 from glint.errors import InputError
+from glint.physics.trig import COS_TABLE, SIN_TABLE, sincos
 from glint.physics.spa_time import (
     DELTA_T_YEARS,
     MAX_YEAR,
@@ -97,6 +98,9 @@ class SolarPosition(NamedTuple):
         Equation of time [min]: apparent minus mean solar time.
     earth_sun_distance : ndarray
         Earth-sun distance [AU].
+
+    The last two depend on the time only: for a single time they are
+    read-only broadcasts of one value (copy them before writing into them).
     """
 
     zenith: np.ndarray
@@ -153,15 +157,16 @@ def _observer_numpy(lat: NDArray[np.float64], lon: NDArray[np.float64],
     return (90.0 - e, azimuth, e, np.degrees(delta_p), alpha_p, hour)
 
 
-@njit(parallel=True, fastmath=False, cache=True)
+@njit(parallel=True, fastmath=False, cache=True, nogil=True)
 def _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha, delta,  # type: ignore[no-untyped-def]
-                     sin_d, cos_d, sin_xi, refraction, zen, azi, elv, dec, ra,
-                     ha):  # pragma: no cover
+                     sin_d, cos_d, sin_xi, refraction, sin_table, cos_table, zen, azi, elv,
+                     dec, ra, ha):  # pragma: no cover
     """Fused loop over points: the same maths as :func:`_observer_numpy`
-    with four transcendental calls per point (a sine or cosine of the
-    latitude and of the hour angle, asin for the elevation, atan2 for the
-    azimuth): the other sines and cosines come from algebra, and the small
-    angles (parallax shifts, the refraction offset) from short series."""
+    with two library calls per point (asin for the elevation, atan2 for the
+    azimuth): the sines and cosines of the latitude and of the hour angle
+    come from :func:`glint.physics.trig.sincos` (a table and short series),
+    the other sines and cosines from algebra, and the small angles (parallax
+    shifts, the refraction offset) from short series."""
     d2r = np.pi / 180.0
     r2d = 180.0 / np.pi
     b = _SPA_AXIS_RATIO
@@ -173,21 +178,10 @@ def _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha, delta,  
         # One sine or cosine per angle, the other from the square root on
         # the side where that is well conditioned (|sin| or |cos| < 0.71).
         lat_deg = lat[i * s0]
-        if abs(lat_deg) <= 45.0:
-            sphi = np.sin(lat_deg * d2r)
-            cphi = np.sqrt(1.0 - sphi * sphi)
-        else:
-            cphi = np.cos(lat_deg * d2r)
-            sphi = np.copysign(np.sqrt(1.0 - cphi * cphi), lat_deg)
+        sphi, cphi = sincos(lat_deg * d2r, sin_table, cos_table)
         h_deg = nu[k] + lon[i * s1] - alpha[k]  # eq. 32
         h_deg = h_deg - 360.0 * np.floor((h_deg + 180.0) / 360.0)  # [-180, 180)
-        ah = abs(h_deg)
-        if ah <= 45.0 or ah >= 135.0:
-            sh = np.sin(h_deg * d2r)
-            ch = np.copysign(np.sqrt(1.0 - sh * sh), 90.0 - ah)
-        else:
-            ch = np.cos(h_deg * d2r)
-            sh = np.copysign(np.sqrt(1.0 - ch * ch), h_deg)
+        sh, ch = sincos(h_deg * d2r, sin_table, cos_table)
         # tan u = b tan(phi), |u| <= 90 deg  (eqs. 34-36)
         q = 1.0 / np.sqrt(cphi * cphi + b * b * sphi * sphi)
         hr = elev[i * s2] / 6378140.0
@@ -258,7 +252,7 @@ def _observer_numba(lat: NDArray[np.float64], lon: NDArray[np.float64],
     with numba.parallel_chunksize(chunk):
         _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha,
                          delta, np.sin(d_r), np.cos(d_r), np.sin(xi_r),
-                         bool(refraction), *outs)
+                         bool(refraction), SIN_TABLE, COS_TABLE, *outs)
     return outs
 
 
@@ -321,8 +315,9 @@ def _solar_position(time: Any, longitude: ArrayLike, latitude: ArrayLike, *,
         args[0], args[1], args[2], args[3], args[4], idx, terms.apparent_sidereal_time,
         terms.right_ascension, terms.declination, terms.horizontal_parallax, bool(refraction))
     if terms.jd.size == 1:
-        eot = np.full(shape, terms.equation_of_time[0])
-        dist = np.full(shape, terms.earth_sun_distance[0])
+        # One time: the same value at every point, as read-only broadcasts.
+        eot = np.broadcast_to(terms.equation_of_time[0], shape)
+        dist = np.broadcast_to(terms.earth_sun_distance[0], shape)
     else:
         full_idx = np.broadcast_to(inverse, shape)
         eot = terms.equation_of_time[full_idx]

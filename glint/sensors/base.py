@@ -86,6 +86,10 @@ class GroundPoints:
         ``true_azimuth = (grid_azimuth + gamma) % 360``.
     grid : glint.geo.grid.Grid or None
         The scene grid.
+    terms : mapping of str to numpy.ndarray
+        A sensor's own smooth per-point quantities (see
+        :meth:`Sensor.ground_terms`), interpolated from a checked lattice by
+        the engine; empty when the sensor computes them itself.
     """
 
     x: FloatArray
@@ -96,6 +100,7 @@ class GroundPoints:
     col: FloatArray
     convergence: FloatArray
     grid: Grid | None = None
+    terms: Mapping[str, FloatArray] = field(default_factory=dict)
 
     @classmethod
     def from_pixels(cls, grid: Grid, rows: ArrayLike, cols: ArrayLike) -> GroundPoints:
@@ -184,6 +189,18 @@ class Sensor(Protocol):
     scanner's ``start_time``) names that key and gives the time; every other
     sensor has ``None`` for both and follows the scene time. The scene
     checks that a fixed time agrees with every scene time.
+
+    Two optional methods let :mod:`glint.engine.compute` keep sensors near
+    the grid fast without interpolating what is not smooth:
+
+    * ``ground_terms(longitude, latitude) -> {name: array}``: smooth
+      per-point quantities that are costly to compute (a frame camera's
+      map-plane coordinates). The engine computes them exactly on a lattice
+      of ground positions, checks the view directions they give, and hands
+      them back interpolated in :attr:`GroundPoints.terms`.
+    * ``imaging_times(points, time) -> datetime64 array``: when each point
+      is imaged, also where it is not seen (a smooth field: the sun at those
+      times is interpolated from a lattice).
     """
 
     @property

@@ -64,6 +64,11 @@ class FixedCamera(FrameCamera):
         return tuple(self._enu[i, 0] * d[0] + self._enu[i, 1] * d[1] + self._enu[i, 2] * d[2]
                      for i in range(3))
 
+    def ground_terms(self, longitude: Any, latitude: Any) -> dict[str, np.ndarray]:
+        """None: over curved water the camera's local vectors are cheap
+        (ellipsoid algebra) and computed at every point."""
+        return {}
+
     def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         m = self._enu
         d = [de * m[0, k] + dn * m[1, k] + du * m[2, k] for k in range(3)]

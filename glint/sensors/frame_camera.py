@@ -58,6 +58,7 @@ from glint.sensors.base import (
     ecef_from_lonlat,
     register_sensor_kind,
 )
+from glint.sensors.kernels import view_from_position
 
 __all__ = ["FrameCamera", "CameraImage", "camera_image_geometry", "camera_axes"]
 
@@ -205,9 +206,25 @@ class FrameCamera:
 
     def _local_vectors(self, lon: Any, lat: Any) -> tuple[np.ndarray, ...]:
         """ENU components (at the camera) of the vectors camera -> ground points."""
-        e, n = self._fwd.transform(np.asarray(lon, float), np.asarray(lat, float))
-        e, n = np.asarray(e, float), np.asarray(n, float)
+        t = self.ground_terms(lon, lat)
+        e, n = t["plane_east"], t["plane_north"]
         return e, n, np.full(e.shape, -self.altitude)
+
+    def ground_terms(self, longitude: Any, latitude: Any) -> dict[str, np.ndarray]:
+        """Coordinates of ground points on the water plane [m]: east and
+        north of the point below the camera (azimuthal equidistant
+        projection). Smooth: the engine may interpolate them (see
+        :class:`~glint.sensors.base.Sensor`)."""
+        e, n = self._fwd.transform(np.asarray(longitude, float), np.asarray(latitude, float))
+        return {"plane_east": np.asarray(e, float), "plane_north": np.asarray(n, float)}
+
+    def _image_coords(self, v: tuple[np.ndarray, ...]) -> tuple[np.ndarray, np.ndarray]:
+        xc, yc, zc = (self.axes[i, 0] * v[0] + self.axes[i, 1] * v[1] + self.axes[i, 2] * v[2]
+                      for i in range(3))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            col = np.where(zc > 0.0, self.fx * xc / zc + self.cols / 2.0 - 0.5, np.nan)
+            row = np.where(zc > 0.0, self.fy * yc / zc + self.rows / 2.0 - 0.5, np.nan)
+        return col, row
 
     def _intersect(self, de: np.ndarray, dn: np.ndarray, du: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         """lon, lat of ray/water intersections (NaN where the ray misses)."""
@@ -245,13 +262,7 @@ class FrameCamera:
         Points behind the camera give NaN; points in front but outside the
         image give indices outside ``[-0.5, cols - 0.5]`` / ``[-0.5, rows - 0.5]``.
         """
-        v = self._local_vectors(lon, lat)
-        xc, yc, zc = (self.axes[i, 0] * v[0] + self.axes[i, 1] * v[1] + self.axes[i, 2] * v[2]
-                      for i in range(3))
-        with np.errstate(divide="ignore", invalid="ignore"):
-            col = np.where(zc > 0.0, self.fx * xc / zc + self.cols / 2.0 - 0.5, np.nan)
-            row = np.where(zc > 0.0, self.fy * yc / zc + self.rows / 2.0 - 0.5, np.nan)
-        return col, row
+        return self._image_coords(self._local_vectors(lon, lat))
 
     def image_to_world(self, col: Any, row: Any) -> tuple[np.ndarray, np.ndarray]:
         """Longitude and latitude [°] where the rays through image points meet
@@ -271,8 +282,13 @@ class FrameCamera:
         ``extras``: ``image_col``, ``image_row`` (fractional pixel indices),
         ``slant_range`` [m], ``unseen`` (points outside the image).
         """
-        col, row = self.world_to_image(points.lon, points.lat)
-        vz, va, d = angles_to_position(points.lon, points.lat, 0.0, *self._xyz)
+        if "plane_east" in points.terms and self.surface == "plane":
+            e = np.asarray(points.terms["plane_east"], float)
+            v = (e, np.asarray(points.terms["plane_north"], float), np.full(e.shape, -self.altitude))
+            col, row = self._image_coords(v)
+        else:
+            col, row = self.world_to_image(points.lon, points.lat)
+        vz, va, d, _ = view_from_position(points.lon, points.lat, self._xyz)
         seen = self.in_image(col, row) & (vz < 90.0)
         return ViewAngles(np.where(seen, vz, np.nan), np.where(seen, va, np.nan), None,
                           {"image_col": col, "image_row": row,

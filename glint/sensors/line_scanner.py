@@ -9,6 +9,7 @@ foot of the perpendicular from the point onto the flight line.
 from __future__ import annotations
 
 import numpy as np
+from numpy.typing import NDArray
 
 from glint.errors import SensorError
 from glint.validation import check_number
@@ -18,12 +19,11 @@ from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
-    angles_to_position,
     ecef_from_lonlat,
     enu_basis,
-    lonlat_from_ecef,
     register_sensor_kind,
 )
+from glint.sensors.kernels import view_from_track
 
 __all__ = ["LineScanner"]
 
@@ -110,36 +110,43 @@ class LineScanner:
         return self.start_time
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
-        """View angles, imaging times and scan angles (``extras["scan_angle"]``)."""
+        """View angles, imaging times and scan angles (``extras["scan_angle"]``).
+
+        One compiled pass per point (:func:`glint.sensors.kernels.view_from_track`),
+        the equations of the class notes.
+        """
+        t0 = self._start(time)
+        g = view_from_track(points.lon, points.lat, centre=self.track.c, heading=self.track.t,
+                            height=self.altitude, radius=self.track.radius, length=self.length,
+                            scan_half_angle=self.scan_half_angle)
+        seen = g["seen"]
+        times = self._times(t0, g["along_track"])
+        times = np.where(seen, times, np.datetime64("NaT", "ns"))
+        return ViewAngles(g["view_zenith"], g["view_azimuth"], times,
+                          {"scan_angle": g["scan_angle"], "slant_range": g["slant_range"],
+                           "unseen": int(seen.size - np.count_nonzero(seen))})
+
+    def imaging_times(self, points: GroundPoints, time: np.datetime64 | None) -> NDArray[np.datetime64]:
+        """Time at which the aircraft is abeam of each point, seen or not
+        (beyond the ends of the line the straight flight is extended): a
+        smooth field, for tie-point lattices of the sun position."""
+        along, _ = self.track.project(points.lon, points.lat)
+        return self._times(self._start(time), np.asarray(along, float) * self.track.radius)
+
+    def _start(self, time: np.datetime64 | None) -> np.datetime64:
         t0 = self.start_time if self.start_time is not None else time
         if t0 is None:
             raise SensorError("line scanner has no start_time and no scene time was given")
-        along, _ = self.track.project(points.lon, points.lat)
-        s = along * self.track.radius
-        x, y, z = self.track.position(along, self.altitude)
-        vz, va, dist = angles_to_position(points.lon, points.lat, 0.0, x, y, z)
-        # Scan angle at the aircraft: between its nadir and the point.
-        alon, alat, aheight = lonlat_from_ecef(x, y, z)
-        svz, _, _ = angles_to_position(alon, alat, aheight, *_ecef_point(points))
-        scan = 180.0 - svz
-        with np.errstate(invalid="ignore"):
-            seen = (s >= 0.0) & (s <= self.length) & (scan <= self.scan_half_angle) & (vz < 90.0)
-        vz, va = np.where(seen, vz, np.nan), np.where(seen, va, np.nan)
-        dt = np.where(seen, s / self.ground_speed, np.nan)
+        return ns_time(t0)
+
+    def _times(self, t0: np.datetime64, along_m: NDArray[np.float64]) -> NDArray[np.datetime64]:
+        dt = along_m / self.ground_speed
         ns = np.where(np.isfinite(dt), np.round(dt * 1e9), 0).astype("int64")
-        times = ns_time(t0) + ns.astype("timedelta64[ns]")
-        times = np.where(seen, times, np.datetime64("NaT", "ns"))
-        return ViewAngles(vz, va, times, {"scan_angle": np.where(seen, scan, np.nan),
-                                          "slant_range": np.where(seen, dist, np.nan),
-                                          "unseen": int(np.sum(~seen))})
+        return np.where(np.isfinite(dt), t0 + ns.astype("timedelta64[ns]"), np.datetime64("NaT", "ns"))
 
     def __repr__(self) -> str:
         return (f"LineScanner(start={self.start!r}, end={self.end!r}, altitude={self.altitude!r}, "
                 f"ground_speed={self.ground_speed!r}, scan_half_angle={self.scan_half_angle!r})")
-
-
-def _ecef_point(points: GroundPoints) -> tuple[np.ndarray, ...]:
-    return ecef_from_lonlat(points.lon, points.lat, 0.0)
 
 
 @register_sensor_kind(

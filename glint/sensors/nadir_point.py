@@ -17,10 +17,10 @@ from glint.sensors.base import (
     GroundPoints,
     TableReader,
     ViewAngles,
-    angles_to_position,
     ecef_from_lonlat,
     register_sensor_kind,
 )
+from glint.sensors.kernels import view_from_position
 
 __all__ = ["NadirPoint"]
 
@@ -43,8 +43,9 @@ class NadirPoint:
     Notes
     -----
     The sensor is at ECEF ``P(lon, lat, altitude)`` and the view angles are
-    :func:`~glint.sensors.base.angles_to_position` from each ground point
-    (height 0). Points whose view zenith is 90° or more do not see the
+    those of :func:`~glint.sensors.base.angles_to_position` from each ground
+    point (height 0), evaluated by the compiled loop
+    :func:`~glint.sensors.kernels.view_from_position`. Points whose view zenith is 90° or more do not see the
     sensor (NaN). ``extras["slant_range"]`` holds the distance [m].
 
     Examples
@@ -68,11 +69,8 @@ class NadirPoint:
 
     def view_angles(self, points: GroundPoints, time: np.datetime64 | None) -> ViewAngles:
         """View angles towards the sensor from every point."""
-        vz, va, d = angles_to_position(points.lon, points.lat, 0.0, *self._xyz)
-        hidden = ~(vz < 90.0)
-        vz = np.where(hidden, np.nan, vz)
-        va = np.where(hidden, np.nan, va)
-        return ViewAngles(vz, va, None, {"slant_range": d, "unseen": int(np.sum(hidden))})
+        vz, va, d, hidden = view_from_position(points.lon, points.lat, self._xyz)
+        return ViewAngles(vz, va, None, {"slant_range": d, "unseen": hidden})
 
     def __repr__(self) -> str:
         return f"NadirPoint(lon={self.lon!r}, lat={self.lat!r}, altitude={self.altitude!r})"

@@ -27,7 +27,9 @@ from __future__ import annotations
 
 import math
 import os
-from collections.abc import Mapping, Sequence
+import queue
+import threading
+from collections.abc import Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Any, ClassVar, Generic, Protocol, TypeVar, cast
@@ -50,6 +52,7 @@ __all__ = [
     "TimeSummary",
     "JobResult",
     "seen_mask",
+    "computed_ahead",
     "LOW_SUN_ELEVATION",
     "sun_note",
     "run_cautions",
@@ -114,6 +117,58 @@ def run_metadata(scene: Any, time: np.datetime64, command: str | None) -> dict[s
         "glint_run_record": scene_toml(scene, command=cmd, version=__version__, times=(time,)),
     }
 
+
+
+T = TypeVar("T")
+
+
+def computed_ahead(items: Iterable[T], depth: int = 1) -> Iterator[T]:
+    """The items of ``items``, computed in a background thread up to
+    ``depth`` items ahead of the consumer.
+
+    While the caller writes one strip (GDAL and netCDF compress in native
+    code, without Python's lock), the next is computed (the compiled kernels
+    release it too), so both cores are busy. Memory grows by ``depth``
+    items. An exception in the computation is raised here, in the consumer;
+    when the consumer stops early (an error, SIGINT or SIGTERM) the
+    computation stops after its current item.
+    """
+    q: queue.Queue[tuple[str, Any]] = queue.Queue(maxsize=max(int(depth), 1))
+    stop = threading.Event()
+
+    def produce() -> None:
+        try:
+            for item in items:
+                while not stop.is_set():
+                    try:
+                        q.put(("item", item), timeout=0.1)
+                        break
+                    except queue.Full:
+                        continue
+                if stop.is_set():
+                    return
+            q.put(("end", None))
+        except BaseException as exc:  # handed to the consumer
+            q.put(("error", exc))
+
+    worker = threading.Thread(target=produce, name="glint-compute", daemon=True)
+    worker.start()
+    try:
+        while True:
+            kind, value = q.get()
+            if kind == "end":
+                return
+            if kind == "error":
+                raise value
+            yield value
+    finally:
+        stop.set()
+        while worker.is_alive():  # unblock a producer waiting on a full queue
+            try:
+                q.get_nowait()
+            except queue.Empty:
+                pass
+            worker.join(timeout=0.05)
 
 
 class _SceneLike(Protocol):

@@ -15,7 +15,7 @@ import os
 from collections.abc import Callable, Iterable, Iterator, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
-from typing import Any
+from typing import Any, Optional
 
 import numpy as np
 from numpy.typing import NDArray
@@ -43,6 +43,7 @@ from glint.workflows.job import (
     JobResult,
     TimeFiles,
     TimeSummary,
+    computed_ahead,
     plan_outputs,
     run_cautions,
     run_metadata,
@@ -59,6 +60,8 @@ FORMATS = OUTPUT_FORMATS
 
 #: One strip of a map: whole grid rows and an array per variable.
 Strip = tuple[slice, Mapping[str, NDArray[Any]]]
+#: A strip or a window of one: rows, columns (None: all), arrays.
+_Piece = tuple[slice, Optional[slice], Mapping[str, NDArray[Any]]]
 
 #: Variables the summary and the quicklook need besides the written ones.
 _ALWAYS = ("glint_reflectance", "view_zenith", "glint_class")
@@ -84,7 +87,8 @@ class MapSummary(TimeSummary):
     """Summary of the maps of one scene time (sun angles at the grid centre).
 
     Adds ``tie_point_step``: the spacing [pixels] of the tie-point lattice
-    the angles were interpolated from (0 = every pixel exact).
+    the sun angles (and, for sensors far from the grid, the view angles) were
+    interpolated from (0 = the sun computed at every pixel).
     """
 
     tie_point_step: int
@@ -205,8 +209,8 @@ class _Feed:
     writer: OutputWriter
     variables: tuple[str, ...]
 
-    def write(self, rows: slice, strip: Mapping[str, NDArray[Any]]) -> None:
-        self.writer.write(rows, {n: strip[n] for n in self.variables})
+    def write(self, rows: slice, strip: Mapping[str, NDArray[Any]], cols: slice | None = None) -> None:
+        self.writer.write(rows, {n: strip[n] for n in self.variables}, cols)
 
 
 def _class_flags(scene: Scene) -> ClassFlags:
@@ -334,18 +338,19 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
 
 
 def _write_time(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
-                strips: Iterable[Strip], progress: Callable[[int, int], None] | None,
+                pieces: Iterable[_Piece], progress: Callable[[int, int], None] | None,
                 ctx: _TimeContext) -> MapSummary:
-    """Feed one time's strips to its writers; returns the time's summary."""
+    """Feed one time's strips (or windows of strips) to its writers; returns
+    the time's summary."""
     g = scene.grid
     feeds = _open_writers(out, files, scene, request, ctx)
     tally = GlintTally(scene.classes.names)
-    for rows, strip in strips:
+    for rows, cols, strip in pieces:
         for feed in feeds:
-            feed.write(rows, strip)
+            feed.write(rows, strip, cols)
         tally.add(strip["glint_reflectance"], strip["glint_class"],
                   np.isfinite(strip["view_zenith"]))
-        if progress is not None:
+        if progress is not None and (cols is None or cols.stop >= g.width):
             progress(rows.stop, g.height)
     # Raised inside the output set: nothing is left on disk.
     tally.require_seen(f"the sensor sees none of the grid's {tally.unseen} pixels; check the "
@@ -500,15 +505,38 @@ def write_maps(
     summaries: list[MapSummary] = []
     with plan.output_set as out:
         check_free_space(out.directory, request.estimated_bytes(g) * len(plan.times))
+        # Refused before computing rather than stopped by the system: a
+        # streamed run needs the same memory whatever the grid's size.
+        compute.check_memory(_memory_needed(request), f"writing the maps of {scene.name!r}")
         for files in plan.times:
             ctx = _TimeContext.build(scene, files.time, command)
-            strips: Iterable[Strip] = next(given) if given is not None else compute.iter_blocks(
-                scene, time=files.time, block_rows=block_rows, variables=request.needed,
-                plan=ctx.plan, params=ctx.params)
-            summaries.append(_write_time(out, files, scene, request, strips, progress, ctx))
+            pieces: Iterable[_Piece]
+            if given is not None:
+                pieces = ((rows, None, strip) for rows, strip in next(given))
+            else:
+                # Windows of strips (memory independent of the grid's width),
+                # computed one ahead of the writers so both cores are busy.
+                pieces = computed_ahead(compute.iter_windows(
+                    scene, time=files.time, block_rows=block_rows, variables=request.needed,
+                    plan=ctx.plan, params=ctx.params))
+            summaries.append(_write_time(out, files, scene, request, pieces, progress, ctx))
         if given is not None:
             next(given, None)  # refuses strips beyond the last time
     return MapResult(files=list(out.files), summaries=summaries)
+
+
+#: GDAL's block cache while a GeoTIFF is written (GeoTiffWriter's default).
+_GDAL_CACHE = 256 * 2**20
+
+
+def _memory_needed(request: _Request) -> int:
+    """Memory a map run needs beyond the interpreter and its libraries
+    [bytes]: the engine's windows (:func:`glint.engine.compute.window_memory`),
+    GDAL's block cache when GeoTIFFs are written and the PNG's decimated copy."""
+    need = compute.window_memory(request.needed)
+    if any(k in request.suffixes() for k in ("geotiff", "classes")):
+        need += _GDAL_CACHE
+    return need + 1200 * 1200 * 4
 
 
 def class_colormap(n_classes: int) -> dict[int, tuple[int, int, int, int]]:

@@ -1,0 +1,264 @@
+"""Sensors near the grid at full speed: compiled view loops, ground-position
+and sun lattices, windows, and the background computation.
+
+Every shortcut is checked against the exact path it replaces:
+
+* the compiled loops against the reference numpy ellipsoid helpers of
+  glint.sensors.base (themselves checked against pyproj in test_sensors*);
+* the table-and-series sines and cosines against the math library;
+* the sun at per-point times (one-second knots) against the SPA evaluated
+  at each exact time (its own checks against pvlib are in test_sun.py);
+* whole maps of each near sensor kind against the exact per-pixel path
+  (pyproj at every pixel, every pixel's own sun): angles within 1e-4
+  degrees, reflectance within 1e-4 relative where it exceeds 1e-4 (the
+  error bounds the engine documents).
+"""
+
+from __future__ import annotations
+
+import math
+import threading
+import time
+
+import numpy as np
+import pytest
+
+from glint.engine import compute
+from glint.geo.lattice import MAX_NODES, lattices
+from glint.physics.sun import solar_position
+from glint.physics.trig import COS_TABLE, SIN_TABLE, sincos
+from glint.scene import scene_from_dict
+from glint.sensors.base import (
+    GreatCircleTrack,
+    GroundPoints,
+    angles_to_position,
+    ecef_from_lonlat,
+    lonlat_from_ecef,
+)
+from glint.sensors.kernels import view_from_position, view_from_track
+from glint.workflows.job import computed_ahead
+
+# An invented inlet (the bundled example's box) on a 2 m grid.
+BOX = {"west": -8.0070, "south": 37.0015, "east": -7.9730, "north": 37.0285}
+SENSORS = {
+    "nadir-point": {"kind": "nadir-point", "lon": -8.0049, "lat": 37.0191, "altitude": 3000.0},
+    "frame-camera": {"kind": "frame-camera", "lon": -7.9900, "lat": 37.0150, "altitude": 1500.0,
+                     "image_size": [4000, 3000], "horizontal_fov": 70.0},
+    "fixed-camera": {"kind": "fixed-camera", "lon": -7.9900, "lat": 36.9990, "altitude": 300.0,
+                     "image_size": [4000, 3000], "horizontal_fov": 70.0, "heading": 0.0,
+                     "pitch": -12.0},
+    "line-scanner": {"kind": "line-scanner", "start": [-8.0100, 37.0140], "end": [-7.9700, 37.0160],
+                     "altitude": 3000.0, "ground_speed": 60.0, "scan_half_angle": 40.0},
+    "drone": {"kind": "frame-camera", "lon": -7.9900, "lat": 37.0150, "altitude": 40.0,
+              "image_size": [4000, 3000], "horizontal_fov": 80.0, "pitch": -70.0},
+}
+
+
+#: The drone sees a few tens of metres: a small box around it.
+DRONE_BOX = {"west": -7.9908, "south": 37.0146, "east": -7.9892, "north": 37.0160}
+
+
+def _scene(sensor: dict, resolution: float | None = None, **grid):
+    box = DRONE_BOX if sensor is SENSORS["drone"] else BOX
+    resolution = resolution or (0.2 if sensor is SENSORS["drone"] else 6.0)
+    data = {
+        "scene": {"name": "Fast path check", "time": "2026-06-14T10:30:00Z"},
+        "grid": {**box, "resolution": resolution, **grid},
+        "sensor": sensor,
+        "surface": {"wind_speed": 4.0, "wind_direction": 260.0},
+        "water": {"wavelength": 560.0},
+    }
+    return scene_from_dict(data, base_dir=".")
+
+
+def _exact_plan(scene):
+    return compute.GeometryPlan(scene.times[0], 0, None, None, {}, False, 0.0)
+
+
+# --------------------------------------------------------------- compiled loops
+def test_sincos_matches_math_library(rng):
+    for a in np.concatenate([rng.uniform(-6.3, 6.3, 20000), [0.0, 1 / 128, -1 / 128, 6.2799]]):
+        s, c = sincos(float(a), SIN_TABLE, COS_TABLE)
+        assert abs(s - math.sin(a)) <= 4e-16 and abs(c - math.cos(a)) <= 4e-16
+    s, c = sincos(100.0, SIN_TABLE, COS_TABLE)  # far angles: the library
+    assert (s, c) == (math.sin(100.0), math.cos(100.0))
+
+
+@pytest.mark.parametrize("height", [30.0, 3000.0, 786000.0])
+def test_view_from_position_matches_reference_helpers(rng, height):
+    lon = rng.uniform(-8.02, -7.96, 5000)
+    lat = rng.uniform(37.0, 37.04, 5000)
+    pos = ecef_from_lonlat(-7.99, 37.02, height)
+    z, a, d, hidden = view_from_position(lon, lat, pos)
+    ez, ea, ed = angles_to_position(lon, lat, 0.0, *pos)
+    seen = ez < 90.0
+    assert hidden == int(np.sum(~seen))
+    np.testing.assert_allclose(z[seen], ez[seen], atol=1e-9)
+    da = (a[seen] - ea[seen] + 180.0) % 360.0 - 180.0
+    # azimuth error counts in proportion to the sine of the zenith
+    assert np.max(np.abs(da) * np.sin(np.radians(ez[seen]))) < 1e-9
+    np.testing.assert_allclose(d, ed, rtol=0, atol=1e-6)
+
+
+def test_view_from_track_matches_reference_helpers(rng):
+    """The fused line-scanner loop against the reference numpy chain it
+    replaces (great-circle track, aircraft position, scan angle)."""
+    lon = rng.uniform(-8.02, -7.96, 4000)
+    lat = rng.uniform(37.0, 37.04, 4000)
+    track = GreatCircleTrack(-8.01, 37.014, 85.0)
+    along, _ = track.project(lon, lat)
+    x, y, z = track.position(along, 3000.0)
+    ez, ea, ed = angles_to_position(lon, lat, 0.0, x, y, z)
+    alon, alat, ah = lonlat_from_ecef(x, y, z)
+    svz, _, _ = angles_to_position(alon, alat, ah, *ecef_from_lonlat(lon, lat, 0.0))
+    length = 3500.0
+    g = view_from_track(lon, lat, centre=track.c, heading=track.t, height=3000.0,
+                        radius=track.radius, length=length, scan_half_angle=40.0)
+    s = along * track.radius
+    ref_seen = (s >= 0) & (s <= length) & (180.0 - svz <= 40.0) & (ez < 90.0)
+    np.testing.assert_array_equal(g["seen"], ref_seen)
+    np.testing.assert_allclose(g["along_track"], s, atol=1e-6)
+    np.testing.assert_allclose(g["view_zenith"][ref_seen], ez[ref_seen], atol=1e-9)
+    np.testing.assert_allclose(g["scan_angle"][ref_seen], 180.0 - svz[ref_seen], atol=1e-7)
+    da = (g["view_azimuth"][ref_seen] - ea[ref_seen] + 180.0) % 360.0 - 180.0
+    assert np.max(np.abs(da) * np.sin(np.radians(ez[ref_seen]))) < 1e-9
+
+
+def test_sun_at_imaging_times_matches_spa_at_each_time(rng):
+    """Sun at many per-point times (one-second knots, linear in between)
+    against the SPA at each exact time: well under 1e-6 degrees."""
+    scene = _scene(SENSORS["line-scanner"])
+    lon = rng.uniform(-8.0, -7.97, 300)
+    lat = rng.uniform(37.0, 37.03, 300)
+    t0 = np.datetime64("2026-06-14T10:30:00", "ns")
+    times = t0 + (rng.uniform(0, 90, 300) * 1e9).astype("int64").astype("timedelta64[ns]")
+    pts = GroundPoints.from_lonlat(longitude=lon, latitude=lat)
+    got = compute._sun_at(scene, times, pts)
+    for i in range(0, 300, 7):
+        ref = solar_position(times[i], longitude=lon[i], latitude=lat[i])
+        d = compute.direction_error(got["sun_zenith"][i], got["sun_azimuth"][i], ref.zenith,
+                                    ref.azimuth)
+        assert float(d) < 1e-6
+
+
+# ------------------------------------------------------------ whole-map bound
+@pytest.mark.parametrize("kind", list(SENSORS))
+def test_near_sensor_maps_match_the_exact_path(kind):
+    """Every pixel of a map of each near sensor kind against the exact path:
+    the documented bounds (1e-4 deg in angles, 1e-4 relative in reflectance
+    where it exceeds 1e-4; float32 storage adds up to 3e-5 deg)."""
+    scene = _scene(SENSORS[kind])
+    t = scene.times[0]
+    plan = compute.plan_geometry(scene, t)
+    assert not plan.views_interpolated and plan.ground is not None and plan.step > 0
+    params = compute.kernel_parameters(scene, t)
+    names = ("sun_zenith", "sun_azimuth", "view_zenith", "view_azimuth", "glint_reflectance")
+    exact_plan = _exact_plan(scene)
+    worst = {"sun": 0.0, "view": 0.0, "refl": 0.0}
+    mismatched = seen = 0
+    for r0 in range(0, scene.grid.height, 128):
+        rs = slice(r0, min(r0 + 128, scene.grid.height))
+        a = compute.compute_window(scene, plan, params, rs, None, names)
+        b = compute.compute_window(scene, exact_plan, params, rs, None, names)
+        for who in ("sun", "view"):
+            d = compute.direction_error(a[f"{who}_zenith"].astype(float), a[f"{who}_azimuth"].astype(float),
+                                        b[f"{who}_zenith"].astype(float), b[f"{who}_azimuth"].astype(float))
+            if np.isfinite(d).any():
+                worst[who] = max(worst[who], float(np.nanmax(d)))
+        fa, fb = np.isfinite(a["view_zenith"]), np.isfinite(b["view_zenith"])
+        mismatched += int(np.sum(fa != fb))
+        seen += int(np.sum(fb))
+        ra, rb = a["glint_reflectance"].astype(float), b["glint_reflectance"].astype(float)
+        big = fa & fb & (rb > 1e-4)
+        if big.any():
+            worst["refl"] = max(worst["refl"], float(np.max(np.abs(ra[big] / rb[big] - 1.0))))
+    assert seen > 1000
+    assert worst["sun"] <= scene.tie_point_tolerance + 3e-5
+    assert worst["view"] <= scene.tie_point_tolerance + 3e-5
+    assert worst["refl"] <= 1e-4
+    # Image and swath edges: the positions are right to far below a pixel,
+    # so at most a pixel lying on the edge itself may flip.
+    assert mismatched <= 2
+
+
+def test_far_sensor_keeps_interpolated_views():
+    sat = {"kind": "nadir-point", "altitude": 786000.0, "lon": -5.0, "lat": 38.0}
+    plan = compute.plan_geometry(_scene(sat), np.datetime64("2026-06-14T10:30:00", "ns"))
+    assert plan.views_interpolated and plan.ground is None
+
+
+# ------------------------------------------------------------ bounded memory
+def test_lattices_skip_spacings_with_too_many_nodes():
+    scene = _scene(SENSORS["nadir-point"], resolution=0.5)  # about 36 Mpx
+    steps = [s for s, r, c in lattices(scene.grid)]
+    assert steps and all(len(r) * len(c) <= MAX_NODES for _, r, c in lattices(scene.grid))
+    assert 2 not in steps and 4 not in steps
+
+
+def test_windows_cover_the_grid_and_equal_strips():
+    scene = _scene(SENSORS["line-scanner"], resolution=5.0)
+    names = ("glint_reflectance", "view_zenith", "glint_class")
+    strips = {rs.start: arrs for rs, arrs in compute.iter_blocks(scene, variables=names, block_rows=128)}
+    covered = np.zeros(scene.grid.shape, int)
+    for rs, cs, arrs in compute.iter_windows(scene, variables=names, block_rows=128, max_pixels=128 * 256):
+        assert cs.stop - cs.start <= 256 and (cs.start % 128 == 0)
+        covered[rs, cs] += 1
+        for n in names:
+            np.testing.assert_array_equal(arrs[n], strips[rs.start][n][:, cs])
+    assert np.all(covered == 1)
+
+
+# ------------------------------------------------------ background computing
+def test_computed_ahead_keeps_order_and_raises_errors():
+    assert list(computed_ahead(iter(range(20)), depth=2)) == list(range(20))
+
+    def failing():
+        yield 1
+        raise ValueError("bad strip")
+
+    with pytest.raises(ValueError, match="bad strip"):
+        list(computed_ahead(failing()))
+
+
+def test_computed_ahead_stops_when_the_consumer_stops():
+    produced = []
+
+    def slow():
+        for i in range(1000):
+            produced.append(i)
+            yield i
+
+    before = threading.active_count()
+    for i in computed_ahead(slow(), depth=1):
+        if i == 3:
+            break
+    deadline = time.time() + 5
+    while threading.active_count() > before and time.time() < deadline:
+        time.sleep(0.01)
+    assert threading.active_count() <= before
+    assert len(produced) < 10
+
+
+# ------------------------------------------------------------ memory limit
+def test_memory_limit_refuses_before_computing(tmp_path, monkeypatch):
+    """A memory limit that cannot be met is a clear error raised before
+    anything is computed or written, not the system stopping the process."""
+    from glint.errors import MemoryLimitError
+    from glint.workflows import maps
+
+    scene = _scene(SENSORS["nadir-point"])
+    monkeypatch.setenv(compute.MEMORY_LIMIT_VARIABLE, "50")
+    with pytest.raises(MemoryLimitError, match=r"needs about [\d,]+ MiB.*GLINT_MEMORY_LIMIT_MB"):
+        maps.write_maps(scene, tmp_path / "out", formats=["geotiff"])
+    assert not (tmp_path / "out").exists() or not list((tmp_path / "out").iterdir())
+    with pytest.raises(MemoryLimitError, match="in-memory dataset"):
+        compute.compute_dataset(scene)
+    monkeypatch.setenv(compute.MEMORY_LIMIT_VARIABLE, "lots")
+    with pytest.raises(Exception, match="GLINT_MEMORY_LIMIT_MB must be a number of MiB; got 'lots'"):
+        compute.check_memory(1, "a test")
+
+
+def test_memory_needed_does_not_grow_with_the_grid():
+    small = compute.window_memory(("glint_reflectance", "glint_class"))
+    assert small == compute.window_memory(("glint_reflectance", "glint_class"))
+    assert small < 600 * 2**20
