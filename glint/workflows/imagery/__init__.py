@@ -3,10 +3,11 @@
 * :func:`align` / :func:`iter_strips`: the glint prediction on the image's
   grid (water only, no-data kept);
 * :func:`glint_mask` (arrays) and :func:`mask_image` (files): masking;
-* :func:`correct` (arrays) and :func:`correct_image` (files): the NIR
+* :func:`~glint.workflows.imagery.correction.correct` (arrays) and
+  :func:`~glint.workflows.imagery.correction.correct_image` (files): the NIR
   regression corrections of Hedley, Harborne and Mumby (2005) and Lyzenga,
   Malinas and Tanis (2006), with a deep-water sample from polygons or chosen
-  automatically (:func:`auto_sample`).
+  automatically (:func:`~glint.workflows.imagery.deep_water.auto_sample_pixels`).
 """
 
 from __future__ import annotations
