@@ -262,3 +262,33 @@ def test_memory_needed_does_not_grow_with_the_grid():
     small = compute.window_memory(("glint_reflectance", "glint_class"))
     assert small == compute.window_memory(("glint_reflectance", "glint_class"))
     assert small < 600 * 2**20
+
+
+def test_small_calls_run_on_one_thread_and_restore_the_count():
+    # A call below SERIAL_BELOW points runs on one thread; the caller's
+    # thread count comes back, also when the block raises. The serial and
+    # the parallel run of the same compiled loop give the same pixels.
+    import numba
+
+    from glint.physics.threads import SERIAL_BELOW, threads_for
+    from glint.physics.reflect import glint_kernel
+
+    before = numba.get_num_threads()
+    with threads_for(SERIAL_BELOW - 1):
+        assert numba.get_num_threads() == 1
+    with threads_for(SERIAL_BELOW):
+        assert numba.get_num_threads() == before
+    with pytest.raises(RuntimeError), threads_for(5):
+        raise RuntimeError("inside")
+    assert numba.get_num_threads() == before
+
+    rng = np.random.default_rng(7)
+    n = SERIAL_BELOW * 2
+    sz, vz = rng.uniform(0, 80, n), rng.uniform(0, 60, n)
+    sa, va = rng.uniform(0, 360, n), rng.uniform(0, 360, n)
+    kw = dict(refractive_index=1.34, sigma2_crosswind=0.02, sigma2_upwind=0.03,
+              wind_direction=40.0, sun_solid_angle=6.8e-5)
+    big = glint_kernel(sz, sa, vz, va, **kw)
+    small = glint_kernel(sz[:1000], sa[:1000], vz[:1000], va[:1000], **kw)
+    for name in big:
+        np.testing.assert_array_equal(np.asarray(big[name])[:1000], np.asarray(small[name]))

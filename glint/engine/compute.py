@@ -36,6 +36,7 @@ from glint.errors import InputError, MemoryLimitError
 from glint.geo.grid import Grid
 from glint.geo.lattice import MAX_NODES, NODE_STEPS, LatticePlan, interpolate_field, plan_lattice
 from glint.physics.reflect import glint_kernel
+from glint.physics.threads import threads_for
 from glint.physics.sun import SolarPosition, earth_sun_distance, solar_position, sun_solid_angle
 from glint.physics.surface import (
     SLOPE_VARIANCE_FLOOR,
@@ -487,7 +488,8 @@ def classify(values: ArrayLike, thresholds: Sequence[float]) -> NDArray[np.uint8
     """
     v = np.asarray(values)
     out = np.empty(v.shape, dtype=np.uint8)
-    _classify_loop(v.reshape(-1), np.asarray(thresholds, dtype=np.float64), out.reshape(-1))
+    with threads_for(v.size):
+        _classify_loop(v.reshape(-1), np.asarray(thresholds, dtype=np.float64), out.reshape(-1))
     return out
 
 

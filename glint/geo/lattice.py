@@ -26,6 +26,7 @@ import numpy as np
 from numpy.typing import ArrayLike, DTypeLike, NDArray
 
 from glint.errors import GridError
+from glint.physics.threads import threads_for
 
 if TYPE_CHECKING:
     from glint.geo.grid import Grid
@@ -359,7 +360,8 @@ def interpolate_nodes(
         dtype = v.dtype if np.issubdtype(v.dtype, np.floating) else np.float64
     v, ir, tr, ic, tc = _lattice_weights(v, node_rows, node_cols, rows, cols)
     out = np.empty((ir.size, ic.size), dtype=dtype)
-    _bilinear_loop(v, ir, tr, ic, tc, out)
+    with threads_for(out.size):
+        _bilinear_loop(v, ir, tr, ic, tc, out)
     return out
 
 
@@ -391,7 +393,8 @@ def interpolate_azimuth_nodes(
     a = np.asarray(azimuth_at_nodes, dtype=float)
     v, ir, tr, ic, tc = _lattice_weights(a, node_rows, node_cols, rows, cols)
     out = np.empty((ir.size, ic.size), dtype=dtype)
-    _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
+    with threads_for(out.size):
+        _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
     return out
 
 

@@ -26,6 +26,7 @@ from numpy.typing import ArrayLike, NDArray
 from glint.errors import InputError
 from glint.physics import surface
 from glint.physics._checks import _check_bool, _positive_scalar
+from glint.physics.threads import threads_for
 from glint.validation import as_float_array, broadcast_inputs, check_choice
 
 __all__ = [
@@ -602,11 +603,12 @@ def glint_kernel(
         s2c_a = s2u_a = wd_a = np.zeros(1, dtype=F)
         mss_shadow = shadowing_mss(p["s2c"], p["s2u"])
         scalars = (F(p["s2c"]), F(p["s2u"]), p["wd"] if p["aniso"] else 0.0, F(mss_shadow))
-    nbad = _nb_kernel(  # type: ignore[call-arg]
-        *flat, F(p["n"]), scalars[0], scalars[1], scalars[2],
-        p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], scalars[3],
-        F(p["omega_sun"]), *outs, F, p["field"], s2c_a, s2u_a, wd_a,
-    )
+    with threads_for(flat[0].size):
+        nbad = _nb_kernel(  # type: ignore[call-arg]
+            *flat, F(p["n"]), scalars[0], scalars[1], scalars[2],
+            p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], scalars[3],
+            F(p["omega_sun"]), *outs, F, p["field"], s2c_a, s2u_a, wd_a,
+        )
     if nbad:
         for name in ("sun_zenith", "view_zenith", "sun_azimuth", "view_azimuth"):
             a = arrays[name]

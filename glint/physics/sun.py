@@ -32,6 +32,7 @@ from glint.validation import (
     check_range,
 )
 from glint.errors import InputError
+from glint.physics.threads import threads_for
 from glint.physics.trig import COS_TABLE, SIN_TABLE, sincos
 from glint.physics.spa_time import (
     DELTA_T_YEARS,
@@ -249,7 +250,7 @@ def _observer_numba(lat: NDArray[np.float64], lon: NDArray[np.float64],
     # Chunks handed out dynamically keep both cores busy when one of them is
     # also serving another process (static halves wait for the slower one).
     chunk = max(4096, n // (16 * numba.get_num_threads()))
-    with numba.parallel_chunksize(chunk):
+    with threads_for(n), numba.parallel_chunksize(chunk):
         _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha,
                          delta, np.sin(d_r), np.cos(d_r), np.sin(xi_r),
                          bool(refraction), SIN_TABLE, COS_TABLE, *outs)

@@ -31,6 +31,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from glint.physics.trig import COS_TABLE as _COS_TABLE
 from glint.physics.trig import SIN_TABLE as _SIN_TABLE
+from glint.physics.threads import threads_for
 from glint.physics.trig import sincos as _sincos_near
 from glint.validation import WGS84_A, WGS84_F
 
@@ -102,7 +103,9 @@ def view_from_position(longitude: ArrayLike, latitude: ArrayLike, position: Sequ
     zen, azi, dist = np.empty(lon.size), np.empty(lon.size), np.empty(lon.size)
     sx, sy, sz = (float(np.asarray(v)) for v in position)
     if lon.size:
-        _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _SIN_TABLE, _COS_TABLE, zen, azi, dist)
+        with threads_for(lon.size):
+            _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _SIN_TABLE, _COS_TABLE, zen, azi,
+                        dist)
     hidden = int(np.count_nonzero(np.isnan(zen)))
     return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), hidden
 
@@ -214,11 +217,12 @@ def view_from_track(longitude: ArrayLike, latitude: ArrayLike, *, centre: ArrayL
                                            "scan_angle", "along_track")}
     seen = np.empty(lon.size, dtype=np.bool_)
     if lon.size:
-        _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
-                    np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
-                    float(length), math.cos(math.radians(scan_half_angle)), _SIN_TABLE, _COS_TABLE,
-                    out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
-                    out["along_track"], seen)
+        with threads_for(lon.size):
+            _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
+                        np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
+                        float(length), math.cos(math.radians(scan_half_angle)), _SIN_TABLE, _COS_TABLE,
+                        out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
+                        out["along_track"], seen)
     res: dict[str, NDArray[Any]] = {k: v.reshape(shape) for k, v in out.items()}
     res["seen"] = seen.reshape(shape)
     return res

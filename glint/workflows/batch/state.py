@@ -14,7 +14,6 @@ from __future__ import annotations
 import datetime as _dt
 import hashlib
 import json
-import os
 from collections.abc import Mapping
 from dataclasses import dataclass
 from pathlib import Path
@@ -129,15 +128,18 @@ def read_state(folder: Path) -> dict[str, Any] | None:
 
 def write_state(folder: Path, state: Mapping[str, Any]) -> Path:
     """Write a scene's state file atomically (whole or not at all); the
-    folder is created (with its parents) when missing."""
+    folder is created (with its parents) when missing.
+
+    The file is renamed into place without an ``fsync`` of its own: after a
+    power loss it can be empty or missing, which :func:`read_state` takes as
+    "no state" and the scene is redone, so durability would only cost every
+    scene a disk flush."""
     body = json.dumps({"state_version": _STATE_VERSION, **state}, indent=1, default=str,
                       allow_nan=False)
     with OutputSet(folder, {"state": STATE_FILE}, overwrite=True, parents=True) as out:
         tmp = out.temp("state")
         with open(tmp, "w", encoding="utf-8") as f:
             f.write(body + "\n")
-            f.flush()
-            os.fsync(f.fileno())
     return folder / STATE_FILE
 
 
