@@ -162,13 +162,17 @@ _CHUNK = 512
 def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type: ignore[no-untyped-def]
                gc, use_gc, shadow, mss_shadow, omega_sun,
                o_angle, o_refl, o_rad, o_frac, F,
-               field, s2c_a, s2u_a, wd_a):  # pragma: no cover - compiled
+               s2c_a, s2u_a, wd_a):  # pragma: no cover - compiled
     """One pass over the pixels; returns the number of pixels with a zenith
     angle outside [0, 180] or an infinite azimuth (set to NaN).
 
-    With ``field`` the slope variances (and, when ``aniso``, the wind
-    direction) are taken per pixel from ``s2c_a``, ``s2u_a``, ``wd_a``
-    (a wind field); otherwise from the scalars.
+    With a wind field the slope variances (and, when ``aniso``, the wind
+    direction) are taken per pixel from the arrays ``s2c_a``, ``s2u_a``,
+    ``wd_a``; without one these are ``None`` and the scalars are used. The
+    ``is None`` tests are resolved when numba compiles, so the two cases are
+    compiled apart: the loop for uniform wind keeps its slope constants out
+    of the pixel loop and stays vectorised (a run-time flag there cost more
+    than half the kernel's speed).
 
     Works in a frame turned so that the sun lies in the vertical plane of
     the y axis; only azimuth differences enter, and they are formed in
@@ -236,7 +240,7 @@ def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type
             cw = math.sqrt(min(max(cw2, F(0.0)), F(1.0)))
             rho = _nb_fresnel(cw, n, F)
             wdir = wind_dir
-            if field:  # per-pixel slope statistics (a wind field)
+            if s2c_a is not None:  # per-pixel slope statistics (a wind field)
                 pc = s2c_a[i]
                 pu = s2u_a[i]
                 if aniso:
@@ -295,7 +299,10 @@ def _nb_kernel(sz_in, sa_in, vz_in, va_in, n, s2c, s2u, wind_dir, aniso,  # type
             else:
                 k = pre[j] * math.exp(arg[j])
                 if shadow:
-                    mss = F(0.5) * (s2c_a[i] + s2u_a[i]) if field else mss_shadow
+                    if s2c_a is not None:
+                        mss = F(0.5) * (s2c_a[i] + s2u_a[i])
+                    else:
+                        mss = mss_shadow
                     k *= _nb_shadowing(cts[j], mss, F) * \
                         _nb_shadowing(ctv[j], mss, F)
                 rad = rhos[j] * k
@@ -592,6 +599,9 @@ def glint_kernel(
     flat = [arrays[k].reshape(-1) for k in ("sun_zenith", "sun_azimuth", "view_zenith",
                                              "view_azimuth")]
     outs = [res[k].reshape(-1) for k in KERNEL_OUTPUTS]
+    s2c_a: NDArray[Any] | None = None
+    s2u_a: NDArray[Any] | None = None
+    wd_a: NDArray[Any] | None = None
     if p["field"]:
         def flat_of(key: str) -> NDArray[Any]:
             return np.ascontiguousarray(p[key], dtype=F).reshape(-1)
@@ -600,14 +610,13 @@ def glint_kernel(
         wd_a = flat_of("wd") if p["aniso"] else np.zeros(1, dtype=F)
         scalars = (F(1.0), F(1.0), 0.0, F(1.0))
     else:
-        s2c_a = s2u_a = wd_a = np.zeros(1, dtype=F)
         mss_shadow = shadowing_mss(p["s2c"], p["s2u"])
         scalars = (F(p["s2c"]), F(p["s2u"]), p["wd"] if p["aniso"] else 0.0, F(mss_shadow))
     with threads_for(flat[0].size):
         nbad = _nb_kernel(  # type: ignore[call-arg]
             *flat, F(p["n"]), scalars[0], scalars[1], scalars[2],
             p["aniso"], p["gc"].astype(F), p["use_gc"], p["shadow"], scalars[3],
-            F(p["omega_sun"]), *outs, F, p["field"], s2c_a, s2u_a, wd_a,
+            F(p["omega_sun"]), *outs, F, s2c_a, s2u_a, wd_a,
         )
     if nbad:
         for name in ("sun_zenith", "view_zenith", "sun_azimuth", "view_azimuth"):
