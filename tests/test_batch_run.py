@@ -294,3 +294,24 @@ def test_large_scene_is_split_over_workers_and_written_by_one_process(tmp_path):
     assert not [t for t in stream.data if "glint-scene" in str(t["key"])]
     assert_same_pixels({k.split("/", 1)[1]: v for k, v in rasters(out).items()}, rasters(ref))
     assert leftovers(out) == []
+
+
+def test_local_workers_share_the_cores_and_writers_follow_gdal_threads(tmp_path, monkeypatch):
+    # Each local worker gets cores // workers threads for numba and GDAL, and
+    # the GeoTIFF writer takes its compression threads from GDAL_NUM_THREADS.
+    from glint.geo.grid import Grid
+    from glint.io.geotiff import GeoTiffWriter
+    from glint.workflows.batch.runner import _cores, worker_environment
+
+    env = worker_environment(2)
+    share = str(max(1, _cores() // 2))
+    assert env == {"NUMBA_NUM_THREADS": share, "GDAL_NUM_THREADS": share}
+    g = Grid.from_bounds((0, 0, 100, 50), 10, 32631)
+    monkeypatch.setenv("GDAL_NUM_THREADS", "1")
+    w = GeoTiffWriter(tmp_path / "a.tif", g, ["glint_fraction"])
+    w.abort()
+    assert w.num_threads == "1"
+    monkeypatch.delenv("GDAL_NUM_THREADS")
+    w = GeoTiffWriter(tmp_path / "b.tif", g, ["glint_fraction"])
+    w.abort()
+    assert w.num_threads == "ALL_CPUS"

@@ -33,8 +33,8 @@ from glint.io.strips import StripArrays, check_variables, dataset_strips, datase
     col_range, row_range, strip_arrays
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["GeoTiffWriter", "write_dataset_geotiff", "write_category_sidecar", "COMPRESSIONS",
-           "RESAMPLINGS"]
+__all__ = ["GeoTiffWriter", "write_dataset_geotiff", "write_category_sidecar", "gdal_threads",
+           "COMPRESSIONS", "RESAMPLINGS"]
 
 log = logging.getLogger(__name__)
 
@@ -85,6 +85,20 @@ class _Compression:
                 {2: "STANDARD", 3: "FLOATING_POINT"}[self.predictor] if cog else self.predictor
             )
         return opts
+
+
+def gdal_threads() -> str:
+    """GDAL's compression threads for a writer: the ``GDAL_NUM_THREADS``
+    environment variable when set (a batch worker sets its share of the
+    cores there), else ``"ALL_CPUS"``.
+
+    Examples
+    --------
+    >>> import os
+    >>> os.environ.get("GDAL_NUM_THREADS", "ALL_CPUS") == gdal_threads()
+    True
+    """
+    return os.environ.get("GDAL_NUM_THREADS") or "ALL_CPUS"
 
 
 def _file_dtype(variables: Sequence[str], dtype: str | None) -> np.dtype[Any]:
@@ -222,7 +236,7 @@ class GeoTiffWriter:
         Dataset-level metadata (scene time, sun angles, class thresholds);
         values are converted with ``str``.
     num_threads : str or int, optional
-        GDAL compression threads, default ``"ALL_CPUS"``.
+        GDAL compression threads, default :func:`gdal_threads`.
     cache_mb : int, optional
         GDAL block cache while writing [MB], default 256: strips and windows
         of whole tiles are compressed and flushed as they arrive, so memory
@@ -276,7 +290,7 @@ class GeoTiffWriter:
         resampling: str | None = None,
         cog: bool = False,
         tags: Mapping[str, Any] | None = None,
-        num_threads: str | int = "ALL_CPUS",
+        num_threads: str | int | None = None,
         cache_mb: int = 256,
         colormap: Colormap | None = None,
         categories: Sequence[str] | None = None,
@@ -300,7 +314,7 @@ class GeoTiffWriter:
         self.resampling = resampling
         self.cog = bool(cog)
         self.tags = {str(k): str(v) for k, v in (tags or {}).items()}
-        self.num_threads = str(num_threads)
+        self.num_threads = gdal_threads() if num_threads is None else str(num_threads)
         self.cache_mb = int(cache_mb)
         self.colormap = dict(colormap) if colormap else None
         self.categories = tuple(str(c) for c in categories) if categories else None

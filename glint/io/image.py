@@ -22,6 +22,7 @@ from glint._version import __version__
 from glint.errors import OutputError
 from glint.geo.grid import Grid
 from glint.geo.image import ImageInfo
+from glint.io.geotiff import gdal_threads
 
 __all__ = ["ProfileWriter", "copy_profile", "grid_profile", "raster_env", "with_raster_env", "BANDS", "CACHE_MB"]
 
@@ -47,7 +48,7 @@ def raster_env() -> Any:
     """A ``rasterio.Env`` for a run: bounded block cache, compression threads."""
     import rasterio
 
-    return rasterio.Env(GDAL_CACHEMAX=CACHE_MB, GDAL_NUM_THREADS="ALL_CPUS")
+    return rasterio.Env(GDAL_CACHEMAX=CACHE_MB, GDAL_NUM_THREADS=gdal_threads())
 
 F = TypeVar("F", bound=Callable[..., Any])
 
@@ -143,7 +144,7 @@ class ProfileWriter:
                                              "transform", "nodata") if k in self.profile}
         try:
             self._dst: Any = rasterio.open(self.path, "w", **base, **creation,
-                                           num_threads="ALL_CPUS")
+                                           num_threads=gdal_threads())
             dst = self._dst
             for i in range(1, dst.count + 1):
                 if descriptions and i <= len(descriptions) and descriptions[i - 1]:

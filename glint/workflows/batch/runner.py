@@ -327,10 +327,19 @@ def _cluster(client: Any, scheduler: str | None, workers: int | None,
 
 
 def worker_environment(workers_per_host: int) -> dict[str, str]:
-    """Environment of the local workers: the compiled kernels of each worker
-    use the cores left to it (the workers already run in parallel; more
-    threads than cores make the kernels' threads wait for each other)."""
-    return {"NUMBA_NUM_THREADS": str(max(1, _cores() // max(1, workers_per_host)))}
+    """Environment of the local workers: the compiled kernels and GDAL's
+    compression threads of each worker use the cores left to it (the
+    workers already run in parallel; more threads than cores make each
+    worker's threads wait for the other workers').
+
+    Examples
+    --------
+    >>> env = worker_environment(10_000)
+    >>> env["NUMBA_NUM_THREADS"], env["GDAL_NUM_THREADS"]
+    ('1', '1')
+    """
+    share = str(max(1, _cores() // max(1, workers_per_host)))
+    return {"NUMBA_NUM_THREADS": share, "GDAL_NUM_THREADS": share}
 
 
 def _cores() -> int:
