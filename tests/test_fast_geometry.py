@@ -144,8 +144,11 @@ def test_branch_free_trig_matches_math_library(rng):
     special = [0.0, -0.0, 1.0, -1.0, 1e-300, -1e300, np.inf, -np.inf, np.nan]
     ey, ex = (a.ravel() for a in np.meshgrid(special, special))
     near = np.tan(np.pi / 12) * (1 + rng.uniform(-1e-6, 1e-6, 1000))  # the reduction's switch
-    y = np.concatenate([y, ey, near, -near, np.ones(1000)])
-    x = np.concatenate([x, ex, np.ones(1000), -np.ones(1000), 1 / near])
+    # Pairs near overflow and among the subnormals.
+    big_y, big_x = (rng.uniform(0.3, 1.0, (2, 400)) * 1.79e308) * [[1], [-1]]
+    tiny_y, tiny_x = rng.integers(1, 10**4, (2, 400)) * 5e-324
+    y = np.concatenate([y, ey, near, -near, np.ones(1000), big_y, tiny_y, -tiny_y])
+    x = np.concatenate([x, ex, np.ones(1000), -np.ones(1000), 1 / near, big_x, tiny_x, big_x])
     a = _atan2_all(y, x)
     ref = np.arctan2(y, x)
     assert np.array_equal(np.isnan(a), np.isnan(ref))
