@@ -5,7 +5,8 @@ Every shortcut is checked against the exact path it replaces:
 
 * the compiled loops against the reference numpy ellipsoid helpers of
   glint.sensors.base (themselves checked against pyproj in test_sensors*);
-* the table-and-series sines and cosines against the math library;
+* the table-and-series sines and cosines, and the branch-free sines,
+  cosines, arc tangents and arc sines, against the math library;
 * the sun at per-point times (one-second knots) against the SPA evaluated
   at each exact time (its own checks against pvlib are in test_sun.py);
 * whole maps of each near sensor kind against the exact per-pixel path
@@ -18,6 +19,8 @@ from __future__ import annotations
 
 import math
 import threading
+
+import numba
 import time
 
 import numpy as np
@@ -26,7 +29,7 @@ import pytest
 from glint.engine import compute
 from glint.geo.lattice import MAX_NODES, lattices
 from glint.physics.sun import solar_position
-from glint.physics.trig import COS_TABLE, SIN_TABLE, sincos
+from glint.physics.trig import COS_TABLE, SIN_TABLE, asin, atan2, sincos, sincosd
 from glint.scene import scene_from_dict
 from glint.sensors.base import (
     GreatCircleTrack,
@@ -82,6 +85,85 @@ def test_sincos_matches_math_library(rng):
         assert abs(s - math.sin(a)) <= 4e-16 and abs(c - math.cos(a)) <= 4e-16
     s, c = sincos(100.0, SIN_TABLE, COS_TABLE)  # far angles: the library
     assert (s, c) == (math.sin(100.0), math.cos(100.0))
+
+
+@numba.njit
+def _sincosd_all(d):
+    s, c = np.empty_like(d), np.empty_like(d)
+    for i in range(d.size):
+        s[i], c[i] = sincosd(d[i])
+    return s, c
+
+
+@numba.njit
+def _atan2_all(y, x):
+    out = np.empty_like(y)
+    for i in range(y.size):
+        out[i] = atan2(y[i], x[i])
+    return out
+
+
+@numba.njit
+def _asin_all(s):
+    out = np.empty_like(s)
+    for i in range(s.size):
+        out[i] = asin(s[i])
+    return out
+
+
+#: Largest error allowed of the branch-free functions [rad, or the same in
+#: sine and cosine]: a few units in the last place of angles up to pi.
+BRANCH_FREE_BOUND = 1e-15
+
+
+def test_branch_free_trig_matches_math_library(rng):
+    # sincosd against the sine and cosine in extended precision of the angle
+    # reduced exactly to (-360, 360) by fmod, so that the reference itself
+    # is good to about 1e-19.
+    edges = np.concatenate([np.arange(-1080.0, 1081.0, 45.0), [0.0, -0.0, 1e-300, 44.9999999999,
+                            45.0000000001, 89.99999999999, 1e15, -1e15, 9.99e15]])
+    d = np.concatenate([rng.uniform(-720.0, 720.0, 200_000),
+                        rng.uniform(-1e15, 1e15, 2000) , edges])
+    s, c = _sincosd_all(d)
+    reduced = np.radians(np.fmod(d, 360.0).astype(np.longdouble))
+    assert np.max(np.abs(s - np.sin(reduced))) <= BRANCH_FREE_BOUND
+    assert np.max(np.abs(c - np.cos(reduced))) <= BRANCH_FREE_BOUND
+    # Exact at the multiples of 90 (the library's radians are not).
+    s, c = _sincosd_all(np.array([0.0, 90.0, 180.0, -90.0, 270.0, 360.0]))
+    assert np.array_equal(np.abs(s), [0, 1, 0, 1, 1, 0])
+    assert np.array_equal(np.abs(c), [1, 0, 1, 0, 0, 1])
+    # NaN, infinities and angles beyond the exact reduction give NaN.
+    s, c = _sincosd_all(np.array([np.nan, np.inf, -np.inf, 2e16, -1e300]))
+    assert np.isnan(s).all() and np.isnan(c).all()
+
+    # atan2 against numpy's (the C library's) over every quadrant and
+    # magnitude, the axes, signed zeros, infinities and NaN.
+    m = 200_000
+    y = rng.normal(size=m) * 10.0 ** rng.uniform(-12, 12, m)
+    x = rng.normal(size=m) * 10.0 ** rng.uniform(-12, 12, m)
+    special = [0.0, -0.0, 1.0, -1.0, 1e-300, -1e300, np.inf, -np.inf, np.nan]
+    ey, ex = (a.ravel() for a in np.meshgrid(special, special))
+    near = np.tan(np.pi / 12) * (1 + rng.uniform(-1e-6, 1e-6, 1000))  # the reduction's switch
+    # Pairs near overflow and among the subnormals.
+    big_y, big_x = (rng.uniform(0.3, 1.0, (2, 400)) * 1.79e308) * [[1], [-1]]
+    tiny_y, tiny_x = rng.integers(1, 10**4, (2, 400)) * 5e-324
+    y = np.concatenate([y, ey, near, -near, np.ones(1000), big_y, tiny_y, -tiny_y])
+    x = np.concatenate([x, ex, np.ones(1000), -np.ones(1000), 1 / near, big_x, tiny_x, big_x])
+    a = _atan2_all(y, x)
+    ref = np.arctan2(y, x)
+    assert np.array_equal(np.isnan(a), np.isnan(ref))
+    ok = ~np.isnan(ref)
+    assert np.max(np.abs(a[ok] - ref[ok])) <= BRANCH_FREE_BOUND
+    assert np.array_equal(np.signbit(a[ok]), np.signbit(ref[ok]))  # signed zeros, -pi
+    for yy, xx in [(0.0, 1.0), (0.0, -1.0), (-0.0, -1.0), (1.0, 0.0), (-1.0, 0.0),
+                   (1.0, 1.0), (-1.0, -1.0)]:  # the math library's exact points
+        assert _atan2_all(np.array([yy]), np.array([xx]))[0] == math.atan2(yy, xx)
+
+    # asin against numpy's, to and beyond +-1 (NaN outside like numpy).
+    s = np.concatenate([rng.uniform(-1.0, 1.0, 200_000), 1 - 10.0 ** -rng.uniform(1, 16, 1000),
+                        [-1.0, 1.0, 0.0, -0.0, 0.5]])
+    assert np.max(np.abs(_asin_all(s) - np.arcsin(s))) <= BRANCH_FREE_BOUND
+    assert np.isnan(_asin_all(np.array([1.0 + 1e-15, -2.0, np.nan]))).all()
 
 
 @pytest.mark.parametrize("height", [30.0, 3000.0, 786000.0])

@@ -276,6 +276,40 @@ def test_numba_matches_numpy(rng):
         assert np.max(d[20:]) <= 1e-9, name
 
 
+def test_large_grid_at_one_time_matches_numpy_path_and_pvlib(rng):
+    # Shared time, elevation, pressure and temperature (single values) and
+    # more points than the one-thread limit, in a count that is not a whole
+    # number of chunks: the parallel, chunked loop against the reference
+    # path everywhere and against pvlib's spa_python on a subsample. The
+    # whole globe puts the sun at every elevation, so both sides of the
+    # SPA's refraction switch are crossed.
+    side = 281  # 281**2 = 78961 points
+    lat, lon = np.meshgrid(np.linspace(-89.5, 89.5, side), np.linspace(-180.0, 179.0, side))
+    t = np.datetime64("2026-03-03T17:20:00", "ns")
+    opts = dict(elevation=350.0, pressure=990.0, temperature=4.0, delta_t=float(sun.delta_t(t)))
+    a = sun._solar_position(t, longitude=lon, latitude=lat, **opts, backend="numba")
+    b = sun._solar_position(t, longitude=lon, latitude=lat, **opts, backend="numpy")
+    low = np.abs(b.elevation - sun._REFRACTION_LIMIT) < 0.2
+    assert low.any() and (b.elevation > 60).any() and (b.elevation < -60).any()
+    for name in ("zenith", "elevation", "declination", "hour_angle"):
+        np.testing.assert_allclose(getattr(a, name), getattr(b, name),
+                                   rtol=0, atol=1e-9, err_msg=name)
+    for name in ("azimuth", "right_ascension"):
+        assert np.max(_azimuth_difference(getattr(a, name), getattr(b, name))) <= 1e-9, name
+
+    pick = np.concatenate([np.flatnonzero(low), rng.choice(lat.size, 3000, replace=False)])
+    m = pick.size
+    inp = dict(time=np.full(m, t), latitude=lat.ravel()[pick], longitude=lon.ravel()[pick],
+               elevation=np.full(m, 350.0), pressure=np.full(m, 990.0),
+               temperature=np.full(m, 4.0))
+    ref = _pvlib(inp, np.full(m, opts["delta_t"]))
+    assert np.max(np.abs(a.zenith.ravel()[pick] - ref["apparent_zenith"].to_numpy())) <= 1e-6
+    # An azimuth difference times the sine of the zenith is an angle on the
+    # sky (the azimuth itself is ill-conditioned near the zenith).
+    az = _azimuth_difference(a.azimuth.ravel()[pick], ref["azimuth"].to_numpy())
+    assert np.max(az * np.sin(np.radians(a.zenith.ravel()[pick]))) <= 1e-6
+
+
 @pytest.mark.parametrize("backend", BACKENDS)
 def test_broadcasting(backend):
     t0 = np.datetime64("2024-03-20T12:00")

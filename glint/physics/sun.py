@@ -12,6 +12,19 @@ over times and observer positions. The work is split in two:
   refraction, zenith and azimuth) runs per point, in a fused compiled loop
   (numba) or, for reference, in plain numpy.
 
+The compiled loop calls no library function and has no branch per point,
+so the compiler vectorises it: the sines and cosines of the latitude and of
+the hour angle come from :func:`glint.physics.trig.sincosd` and the
+elevation and azimuth from :func:`glint.physics.trig.atan2` (both within
+1e-15 rad of the math library), the other sines and cosines from algebra
+(square roots of ``1 - s**2`` where that is well conditioned), and the small
+angles (the parallax shifts below 1e-4 rad, the refraction's offset below
+0.042 rad) from short series whose truncation is below 1e-16. Choices such
+as the SPA's refraction switch are selects. It agrees with the numpy path
+to about 1e-12° (tested to 1e-9°) and with pvlib's implementation of the
+same algorithm to about 6e-8° (tested in ``tests/test_sun.py``), far below
+the SPA's stated uncertainty of ±0.0003°.
+
 Times are UTC instants. Never look at the sun or at its reflection on water.
 """
 
@@ -33,7 +46,7 @@ from glint.validation import (
 )
 from glint.errors import InputError
 from glint.physics.threads import threads_for
-from glint.physics.trig import COS_TABLE, SIN_TABLE, sincos
+from glint.physics.trig import atan2, sincosd
 from glint.physics.spa_time import (
     DELTA_T_YEARS,
     MAX_YEAR,
@@ -158,39 +171,77 @@ def _observer_numpy(lat: NDArray[np.float64], lon: NDArray[np.float64],
     return (90.0 - e, azimuth, e, np.degrees(delta_p), alpha_p, hour)
 
 
-@njit(parallel=True, fastmath=False, cache=True, nogil=True)
-def _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha, delta,  # type: ignore[no-untyped-def]
-                     sin_d, cos_d, sin_xi, refraction, sin_table, cos_table, zen, azi, elv,
-                     dec, ra, ha):  # pragma: no cover
-    """Fused loop over points: the same maths as :func:`_observer_numpy`
-    with two library calls per point (asin for the elevation, atan2 for the
-    azimuth): the sines and cosines of the latitude and of the hour angle
-    come from :func:`glint.physics.trig.sincos` (a table and short series),
-    the other sines and cosines from algebra, and the small angles (parallax
-    shifts, the refraction offset) from short series."""
+#: Points per chunk of the compiled loop: the chunk buffers (9 arrays of
+#: 1024 doubles, 72 kB) stay in the level-2 cache.
+_CHUNK = 1024
+
+
+# inline="always": the chunk is compiled into the body of the parallel loop
+# of _observer_kernel, whose arrays numba declares free of overlaps; compiled
+# on its own, the loops over 15 arrays are not vectorised (the compiler
+# cannot rule out that an output overlaps an input). The body is therefore
+# compiled with the kernel's options.
+@njit(fastmath={"afn"}, error_model="numpy", inline="always")
+def _observer_chunk(lo, m, lat, lon, elev, press, temp, idx, step, h0, alpha,  # type: ignore[no-untyped-def]
+                    delta, sin_d, cos_d, sin_xi, refraction, zen, azi, elv, dec, ra,
+                    ha):  # pragma: no cover
+    """Points ``lo .. lo + m - 1``: the same maths as :func:`_observer_numpy`
+    in straight-line loops without a branch or a library call per point, so
+    that the compiler vectorises them.
+
+    The inputs are first gathered into contiguous chunk buffers (an input
+    shared by all points has step 0, the time terms are looked up through
+    ``idx``). The sines and cosines of the latitude and of the hour angle
+    come from :func:`glint.physics.trig.sincosd`, the elevation and the
+    azimuth from :func:`glint.physics.trig.atan2`, the other sines and
+    cosines from algebra, and the small angles (parallax shifts, the
+    refraction offset, the shift of the declination) from short series;
+    every choice (the clip of ``sin e0``, the SPA's refraction switch, the
+    wrap of the azimuth) is a select.
+    """
     d2r = np.pi / 180.0
     r2d = 180.0 / np.pi
-    b = _SPA_AXIS_RATIO
+    b2 = _SPA_AXIS_RATIO * _SPA_AXIS_RATIO
     limit = _REFRACTION_LIMIT
     # step[j] is 1 for a per-point input and 0 for one value shared by all.
     s0, s1, s2, s3, s4, s5 = step[0], step[1], step[2], step[3], step[4], step[5]
-    for i in prange(zen.shape[0]):
+    g_lat = np.empty(m)
+    g_h = np.empty(m)
+    g_hr = np.empty(m)
+    g_refr = np.empty(m)
+    g_alpha = np.empty(m)
+    g_delta = np.empty(m)
+    g_sd = np.empty(m)
+    g_cd = np.empty(m)
+    g_sx = np.empty(m)
+    for j in range(m):
+        i = lo + j
         k = idx[i * s5]
-        # One sine or cosine per angle, the other from the square root on
-        # the side where that is well conditioned (|sin| or |cos| < 0.71).
-        lat_deg = lat[i * s0]
-        sphi, cphi = sincos(lat_deg * d2r, sin_table, cos_table)
-        h_deg = nu[k] + lon[i * s1] - alpha[k]  # eq. 32
-        h_deg = h_deg - 360.0 * np.floor((h_deg + 180.0) / 360.0)  # [-180, 180)
-        sh, ch = sincos(h_deg * d2r, sin_table, cos_table)
+        g_lat[j] = lat[i * s0]
+        g_h[j] = h0[k] + lon[i * s1]  # eq. 32 (h0 = nu - alpha)
+        g_hr[j] = elev[i * s2] * (1.0 / _SPA_EARTH_RADIUS)
+        # Pressure and temperature factor of eq. 42 (1.02/60 deg per unit
+        # cot): P/1010 * 283/(273 + T) * 1.02/60.
+        g_refr[j] = press[i * s3] * (283.0 * 1.02 / 60.0) / (1010.0 * (273.0 + temp[i * s4]))
+        g_alpha[j] = alpha[k]
+        g_delta[j] = delta[k]
+        g_sd[j] = sin_d[k]
+        g_cd[j] = cos_d[k]
+        g_sx[j] = sin_xi[k]
+    for j in range(m):
+        i = lo + j
+        sphi, cphi = sincosd(g_lat[j])
+        h_deg = g_h[j]
+        h_deg = h_deg - 360.0 * np.floor((h_deg + 180.0) * (1.0 / 360.0))  # [-180, 180)
+        sh, ch = sincosd(h_deg)
         # tan u = b tan(phi), |u| <= 90 deg  (eqs. 34-36)
-        q = 1.0 / np.sqrt(cphi * cphi + b * b * sphi * sphi)
-        hr = elev[i * s2] / 6378140.0
+        q = 1.0 / np.sqrt(cphi * cphi + b2 * sphi * sphi)
+        hr = g_hr[j]
         x = cphi * q + hr * cphi
-        y = b * b * sphi * q + hr * sphi
-        sx = sin_xi[k]
+        y = b2 * sphi * q + hr * sphi
+        sx = g_sx[j]
         num = -x * sx * sh
-        den = cos_d[k] - x * sx * ch
+        den = g_cd[j] - x * sx * ch
         # eq. 37: den >= cos(delta) - sin(xi) x > 0.9 and |num/den| < 1e-4,
         # so atan2(num, den) == atan(z) == z - z**3/3 + z**5/5 to 1e-24 rad.
         z = num / den
@@ -198,43 +249,52 @@ def _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha, delta,  
         dalpha = z * (1.0 - z2 * (1.0 / 3.0 - z2 * 0.2)) * r2d
         cda = 1.0 - z2 * (0.5 - z2 * 0.375)  # cos(atan z) = (1 + z**2)**-0.5
         sda = z * cda
-        n2 = (sin_d[k] - y * sx) * cda  # eq. 39
-        r2 = np.sqrt(n2 * n2 + den * den)
-        sdp = n2 / r2
-        cdp = den / r2
+        n2 = (g_sd[j] - y * sx) * cda  # eq. 39
+        inv_r2 = 1.0 / np.sqrt(n2 * n2 + den * den)
+        sdp = n2 * inv_r2  # sin(delta')
+        cdp = den * inv_r2  # cos(delta'); tan(delta') = n2/den
         chp = ch * cda + sh * sda  # cos(H - dalpha)
         shp = sh * cda - ch * sda  # sin(H - dalpha)
-        s = sphi * sdp + cphi * cdp * chp
-        if s > 1.0:
-            s = 1.0
-        elif s < -1.0:
-            s = -1.0
-        e0 = np.arcsin(s) * r2d  # eq. 41
-        e = e0
-        if refraction and e0 >= limit:  # eqs. 42-43
-            # 1/tan(e0 + c) from sin/cos e0 (known) and short series of the
-            # small c = 10.3/(e0 + 5.11) deg <= 0.042 rad (errors < 1e-16).
-            c = 10.3 / (e0 + 5.11) * d2r
-            c2 = c * c
-            sc = c * (1.0 - c2 / 6.0 * (1.0 - c2 / 20.0 * (1.0 - c2 / 42.0)))
-            cc = 1.0 - c2 / 2.0 * (1.0 - c2 / 12.0 * (1.0 - c2 / 30.0 * (1.0 - c2 / 56.0)))
-            ce = np.sqrt(1.0 - s * s)
-            cot = (ce * cc - s * sc) / (s * cc + ce * sc)
-            e = e0 + (press[i * s3] / 1010.0) * (283.0 / (273.0 + temp[i * s4])) * (
-                1.02 / 60.0) * cot
+        s = min(max(sphi * sdp + cphi * cdp * chp, -1.0), 1.0)
+        ce = np.sqrt((1.0 - s) * (1.0 + s))  # cos e0 >= 0
+        e0 = atan2(s, ce) * r2d  # eq. 41
+        # eqs. 42-43: 1/tan(e0 + c) from sin/cos e0 (known) and short series
+        # of the small c = 10.3/(e0 + 5.11) deg <= 0.042 rad (errors < 1e-16)
+        # where the switch applies; elsewhere the value is not used.
+        c = 10.3 / (e0 + 5.11) * d2r
+        c2 = c * c
+        sc = c * (1.0 - c2 * (1.0 / 6.0) * (1.0 - c2 * (1.0 / 20.0) * (1.0 - c2 * (1.0 / 42.0))))
+        cc = 1.0 - c2 * 0.5 * (1.0 - c2 * (1.0 / 12.0) * (
+            1.0 - c2 * (1.0 / 30.0) * (1.0 - c2 * (1.0 / 56.0))))
+        cot = (ce * cc - s * sc) / (s * cc + ce * sc)
+        e = e0 + g_refr[j] * cot if refraction & (e0 >= limit) else e0
         zen[i] = 90.0 - e
         elv[i] = e
-        az = np.arctan2(shp, chp * sphi - (sdp / cdp) * cphi) * r2d + 180.0  # eqs. 45-46
-        if az >= 360.0:
-            az -= 360.0
-        azi[i] = az
+        az = atan2(shp, chp * sphi - (n2 / den) * cphi) * r2d + 180.0  # eqs. 45-46
+        azi[i] = az - 360.0 if az >= 360.0 else az
         # delta' - delta is below 1e-3 rad: asin(w) == w + w**3/6 to 1e-17.
-        w = sdp * cos_d[k] - cdp * sin_d[k]
-        dec[i] = delta[k] + w * (1.0 + w * w / 6.0) * r2d
-        a = alpha[k] + dalpha
-        ra[i] = a - 360.0 * np.floor(a / 360.0)
+        w = sdp * g_cd[j] - cdp * g_sd[j]
+        dec[i] = g_delta[j] + w * (1.0 + w * w * (1.0 / 6.0)) * r2d
+        a = g_alpha[j] + dalpha
+        ra[i] = a - 360.0 * np.floor(a * (1.0 / 360.0))
         hp = h_deg - dalpha + 180.0  # eq. 40
-        ha[i] = hp - 360.0 * np.floor(hp / 360.0) - 180.0
+        ha[i] = hp - 360.0 * np.floor(hp * (1.0 / 360.0)) - 180.0
+
+
+@njit(parallel=True, fastmath={"afn"}, error_model="numpy", cache=True, nogil=True)
+def _observer_kernel(lat, lon, elev, press, temp, idx, step, h0, alpha, delta,  # type: ignore[no-untyped-def]
+                     sin_d, cos_d, sin_xi, refraction, zen, azi, elv, dec, ra,
+                     ha):  # pragma: no cover
+    """All points, in chunks of :data:`_CHUNK` shared out among the threads
+    (see :func:`_observer_chunk`). ``fastmath={"afn"}`` only allows
+    approximate library functions (none are left in the loop); NaN, signed
+    zeros and the rounding of every operation are kept."""
+    n = zen.shape[0]
+    for c in prange((n + _CHUNK - 1) // _CHUNK):
+        lo = c * _CHUNK
+        _observer_chunk(lo, min(_CHUNK, n - lo), lat, lon, elev, press, temp, idx, step,
+                        h0, alpha, delta, sin_d, cos_d, sin_xi, refraction, zen, azi,
+                        elv, dec, ra, ha)
 
 
 def _observer_numba(lat: NDArray[np.float64], lon: NDArray[np.float64],
@@ -249,11 +309,11 @@ def _observer_numba(lat: NDArray[np.float64], lon: NDArray[np.float64],
     d_r, xi_r = np.radians(delta), np.radians(xi)
     # Chunks handed out dynamically keep both cores busy when one of them is
     # also serving another process (static halves wait for the slower one).
-    chunk = max(4096, n // (16 * numba.get_num_threads()))
-    with threads_for(n), numba.parallel_chunksize(chunk):
-        _observer_kernel(lat, lon, elev, press, temp, idx, step, nu, alpha,
+    chunks = -(-n // _CHUNK)
+    with threads_for(n), numba.parallel_chunksize(max(4, chunks // (16 * numba.get_num_threads()))):
+        _observer_kernel(lat, lon, elev, press, temp, idx, step, nu - alpha, alpha,
                          delta, np.sin(d_r), np.cos(d_r), np.sin(xi_r),
-                         bool(refraction), SIN_TABLE, COS_TABLE, *outs)
+                         bool(refraction), *outs)
     return outs
 
 
