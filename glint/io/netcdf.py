@@ -537,10 +537,15 @@ def write_dataset_netcdf(
     Parameters are those of :func:`glint.io.geotiff.write_dataset_geotiff`;
     ``variables`` defaults to every table variable present in ``ds`` and
     ``writer_options`` go to :class:`NetCDFWriter`. A ``time`` coordinate of
-    ``ds`` (scalar) is used unless ``time`` is given.
+    ``ds`` (scalar) is used unless ``time`` is given. Full-width strips of a
+    whole number of chunk rows fill whole chunks: one chunk per variable is
+    cached then (``cache_chunks=1`` unless given).
     """
     path = Path(path)
     names = list(variables) if variables is not None else dataset_variables(ds, None)
+    chunk = writer_options.get("chunk_rows", CHUNK_ROWS)
+    if isinstance(chunk, int) and chunk > 0 and block_rows % chunk == 0:
+        writer_options.setdefault("cache_chunks", 1)
     if "time" not in writer_options and "time" in ds.coords and ds["time"].ndim == 0:
         writer_options["time"] = ds["time"].values
     with OutputSet(path.parent, {"file": path.name}, overwrite=overwrite) as out:

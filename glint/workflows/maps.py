@@ -540,10 +540,15 @@ _GDAL_CACHE = 256 * 2**20
 def _memory_needed(request: _Request) -> int:
     """Memory a map run needs beyond the interpreter and its libraries
     [bytes]: the engine's windows (:func:`glint.engine.compute.window_memory`),
-    GDAL's block cache when GeoTIFFs are written and the PNG's decimated copy."""
+    GDAL's block cache when GeoTIFFs are written, the NetCDF chunk cache (one
+    chunk of each variable and of lat/lon) and the PNG's decimated copy."""
     need = compute.window_memory(request.needed)
-    if any(k in request.suffixes() for k in ("geotiff", "classes")):
+    suffixes = request.suffixes()
+    if any(k in suffixes for k in ("geotiff", "classes")):
         need += _GDAL_CACHE
+    if "netcdf" in suffixes:
+        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in request.needed)
+        need += CHUNK_ROWS * CHUNK_ROWS * (per_pixel + 16)
     return need + 1200 * 1200 * 4
 
 
