@@ -290,6 +290,24 @@ def test_windows_cover_the_grid_and_equal_strips():
     assert np.all(covered == 1)
 
 
+
+def test_window_width_does_not_grow_with_the_grid():
+    # Grids of 4000 and of 11000 columns (16 and 120 Mpx) get the same
+    # windows; every width gets windows of whole tiles within the bound
+    # (one tile at least), as few as that bound allows, or the whole strip.
+    per_pixel = 33  # bytes of the map run's variables
+    max_pixels = compute.WINDOW_BYTES // per_pixel
+    assert compute._window_width(4000, 512, max_pixels) == compute._window_width(11000, 512, max_pixels)
+    for rows, bound in ((512, max_pixels), (128, 128 * 256), (512, 1000)):
+        widest = max(bound // rows**2, 1) * rows
+        for width in range(1, 40000, 37):
+            step = compute._window_width(width, rows, bound)
+            if rows * width <= bound:
+                assert step == width
+                continue
+            assert step % rows == 0 and step <= widest
+            assert -(-width // step) == -(-width // widest)
+
 # ------------------------------------------------------ background computing
 def test_computed_ahead_keeps_order_and_raises_errors():
     assert list(computed_ahead(iter(range(20)), depth=2)) == list(range(20))

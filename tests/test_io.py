@@ -453,3 +453,36 @@ def test_netcdf_lonlat_options(tmp_path, small_grid, rng):
         assert nc.geospatial_lat_min == pytest.approx(lat.min())
     with pytest.raises(InputError, match="'float16'"):
         NetCDFWriter(tmp_path / "x.nc", small_grid, ["glint_fraction"], lonlat_dtype="float16")
+
+
+def test_netcdf_chunk_cache_of_whole_chunk_windows(tmp_path, grid, data):
+    # Windows of whole 128-pixel chunks in row order with a cache of one
+    # chunk per variable, and 100-row strips (chunks written in pieces, let
+    # go by the one-chunk cache and read back) both give the data back
+    # unchanged (netCDF4 as the reader); the default cache is a row of
+    # chunks plus one, growing with the width, the one-chunk cache not.
+    names = ["sun_zenith", "glint_class"]
+    paths = {k: tmp_path / f"{k}.nc" for k in ("windows", "strips", "default")}
+    with OutputSet(tmp_path, {k: p.name for k, p in paths.items()}) as out:
+        ws = {k: out.writer(k, lambda p, c=c: NetCDFWriter(p, grid, names, chunk_rows=128,
+                                                            cache_chunks=c))
+              for k, c in (("windows", 1), ("strips", 1), ("default", None))}
+        size = {k: w._nc["sun_zenith"].get_var_chunk_cache()[0] for k, w in ws.items()}
+        assert size["windows"] == 128 * 128 * 4
+        assert size["default"] == (-(-grid.width // 128) + 1) * 128 * 128 * 4
+        for r0 in range(0, grid.height, 128):
+            for c0 in range(0, grid.width, 256):
+                rs, cs = slice(r0, r0 + 128), slice(c0, c0 + 256)
+                piece = {n: data[n][rs, cs] for n in names}
+                ws["windows"].write(rs, piece, cs)
+                ws["default"].write(rs, piece, cs)
+        for r0 in range(0, grid.height, 100):
+            rs = slice(r0, min(r0 + 100, grid.height))
+            ws["strips"].write(rs, {n: data[n][rs] for n in names})
+    for p in paths.values():
+        with netCDF4.Dataset(p) as nc:
+            nc.set_auto_mask(False)
+            for n in names:
+                np.testing.assert_array_equal(nc[n][:], data[n])
+    with pytest.raises(InputError, match=r"cache_chunks must be a positive integer or None; got 0"):
+        NetCDFWriter(tmp_path / "x.nc", grid, names, cache_chunks=0)

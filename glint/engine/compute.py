@@ -649,8 +649,29 @@ def iter_blocks(
 #: Largest window of output arrays :func:`iter_windows` yields [bytes]:
 #: strips up to this size stay whole (GDAL writes whole strips fastest;
 #: larger windows were measured faster but let memory grow with the width),
-#: wider ones are cut into the fewest windows of whole tiles below it.
+#: wider ones are cut into windows of whole tiles below it.
 WINDOW_BYTES = 32 * 2**20
+
+
+def _window_width(width: int, block_rows: int, max_pixels: int) -> int:
+    """Columns of the windows :func:`iter_windows` cuts a strip of
+    ``block_rows`` x ``width`` pixels into.
+
+    The whole width when the strip holds at most ``max_pixels`` pixels;
+    otherwise the strip is cut into the fewest windows of equal width, each
+    a whole number of ``block_rows``-wide tiles and never wider than the
+    widest whole number of tiles within ``max_pixels`` (at least one tile).
+    The bound is fixed by ``max_pixels`` alone, so the windows (and the
+    buffers sized by them: the computation's temporaries, the writers'
+    caches) do not grow with the grid: a grid of 4000 and one of 11000
+    columns both get windows of 1536 columns at the default size.
+    """
+    if block_rows * width <= max_pixels:
+        return width
+    widest = max(max_pixels // (block_rows * block_rows), 1) * block_rows
+    pieces = -(-width // widest)
+    per_piece = -(-width // pieces)
+    return -(-per_piece // block_rows) * block_rows
 
 
 def iter_windows(
@@ -668,9 +689,10 @@ def iter_windows(
     The strips of :func:`iter_blocks`, cut (when they hold more than
     ``max_pixels`` pixels; default: :data:`WINDOW_BYTES` of the variables)
     into the fewest windows of equal width, left to right, each a whole
-    number of ``block_rows`` wide (so that GeoTIFF tiles of that size are
-    written whole): memory stays bounded whatever the grid's size *and*
-    width.
+    number of ``block_rows`` wide (so that GeoTIFF tiles and NetCDF chunks of
+    that size are written whole) and at most ``max_pixels`` (one tile at
+    least; see :func:`_window_width`): memory stays bounded whatever the
+    grid's size *and* width.
     """
     variables = check_variables(variables)
     t = _scene_time(scene, time)
@@ -680,9 +702,7 @@ def iter_windows(
         per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
         max_pixels = WINDOW_BYTES // max(per_pixel, 1)
     width = scene.grid.width
-    pieces = -(-(block_rows * width) // max(int(max_pixels), 1))
-    step = -(-width // pieces)
-    step = -(-step // block_rows) * block_rows
+    step = _window_width(width, block_rows, max(int(max_pixels), 1))
     for r0, r1 in scene.grid.blocks(block_rows):
         rs = slice(r0, r1)
         for c0 in range(0, width, step):

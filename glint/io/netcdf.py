@@ -44,9 +44,15 @@ from glint.io.strips import StripArrays, check_variables, dataset_strips, datase
 from glint.times import format_time
 from glint.variables import CLASS_NODATA, VARIABLES
 
-__all__ = ["NetCDFWriter", "ImageGrid", "ClassFlags", "write_dataset_netcdf"]
+__all__ = ["NetCDFWriter", "ImageGrid", "ClassFlags", "write_dataset_netcdf", "CHUNK_ROWS"]
 
 log = logging.getLogger(__name__)
+
+#: Chunk height and width of the written variables [pixels]: the height of
+#: the engine's strips and the width of the tiles its windows are made of
+#: (:func:`glint.engine.compute.iter_windows`), so that its windows fill
+#: whole chunks.
+CHUNK_ROWS = 512
 
 
 class ClassFlags(NamedTuple):
@@ -220,7 +226,17 @@ class NetCDFWriter:
         zlib compression level, default 4 (zlib rather than ZSTD so that GDAL
         builds without the HDF5 ZSTD filter can read the file).
     chunk_rows : int, optional
-        Chunk height (and maximum chunk width), default 512.
+        Chunk height (and maximum chunk width), default :data:`CHUNK_ROWS`.
+    cache_chunks : int, optional
+        Chunks of each variable held in memory until they are compressed and
+        written. Default: one row of chunks plus one, enough for writes of
+        any shape in row order (each chunk is written once its rows are
+        complete), but growing with the grid's width. Writes that each cover
+        whole chunks (strips of ``chunk_rows`` rows, or windows of them whole
+        ``chunk_rows`` wide, in row order) need only 1, which keeps memory
+        independent of the grid: a chunk the cache lets go before all its
+        pixels are written is read back and written again (correct, only
+        slower).
     lonlat : bool, optional
         Write the 2-D ``lat``/``lon`` auxiliary coordinates of projected grids
         (default True; always written for an :class:`ImageGrid`). They
@@ -259,7 +275,8 @@ class NetCDFWriter:
         time: Any = None,
         class_flags: ClassFlags | tuple[Sequence[int], Sequence[str], Sequence[float]] | None = None,
         complevel: int = 4,
-        chunk_rows: int = 512,
+        chunk_rows: int = CHUNK_ROWS,
+        cache_chunks: int | None = None,
         lonlat: bool = True,
         lonlat_dtype: str = "float64",
     ) -> None:
@@ -280,6 +297,9 @@ class NetCDFWriter:
         if int(chunk_rows) != chunk_rows or chunk_rows <= 0:
             raise InputError(f"chunk_rows must be a positive integer; got {chunk_rows!r}")
         self.chunk_rows = int(chunk_rows)
+        if cache_chunks is not None and (int(cache_chunks) != cache_chunks or cache_chunks <= 0):
+            raise InputError(f"cache_chunks must be a positive integer or None; got {cache_chunks!r}")
+        self.cache_chunks = None if cache_chunks is None else int(cache_chunks)
         self.image = isinstance(grid, ImageGrid)
         self.geographic = isinstance(grid, Grid) and grid.crs.is_geographic
         self.lonlat = self.image or (bool(lonlat) and not self.geographic)
@@ -354,15 +374,19 @@ class NetCDFWriter:
     def _chunks(self) -> tuple[int, int]:
         return min(self.chunk_rows, self.grid.height), min(self.chunk_rows, self.grid.width)
 
+    def _cached_chunks(self) -> int:
+        """Chunks cached per variable: ``cache_chunks``, or one row of
+        chunks plus one."""
+        if self.cache_chunks is not None:
+            return self.cache_chunks
+        return -(-self.grid.width // self._chunks()[1]) + 1
+
     def _limit_chunk_cache(self, var: Any) -> None:
-        """Cache one row of chunks (plus one chunk) of ``var``: enough for
-        strips in row order, however tall, each chunk being compressed and
-        written once its rows are complete. The library's default cache
-        (64 MiB per variable) would keep a whole variable of a 12-megapixel
-        image in memory until the file is closed."""
+        """Cache :meth:`_cached_chunks` chunks of ``var``. The library's
+        default cache (64 MiB per variable) would keep a whole variable of a
+        12-megapixel image in memory until the file is closed."""
         ch, cw = self._chunks()
-        per_row = -(-self.grid.width // cw) + 1
-        var.set_var_chunk_cache(size=per_row * ch * cw * var.dtype.itemsize)
+        var.set_var_chunk_cache(size=self._cached_chunks() * ch * cw * var.dtype.itemsize)
 
     def _define(self) -> None:
         self._define_axes()
@@ -503,7 +527,7 @@ def write_dataset_netcdf(
     grid: Grid,
     *,
     variables: Sequence[str] | None = None,
-    block_rows: int = 512,
+    block_rows: int = CHUNK_ROWS,
     overwrite: bool = False,
     **writer_options: Any,
 ) -> Path:
@@ -513,10 +537,15 @@ def write_dataset_netcdf(
     Parameters are those of :func:`glint.io.geotiff.write_dataset_geotiff`;
     ``variables`` defaults to every table variable present in ``ds`` and
     ``writer_options`` go to :class:`NetCDFWriter`. A ``time`` coordinate of
-    ``ds`` (scalar) is used unless ``time`` is given.
+    ``ds`` (scalar) is used unless ``time`` is given. Full-width strips of a
+    whole number of chunk rows fill whole chunks: one chunk per variable is
+    cached then (``cache_chunks=1`` unless given).
     """
     path = Path(path)
     names = list(variables) if variables is not None else dataset_variables(ds, None)
+    chunk = writer_options.get("chunk_rows", CHUNK_ROWS)
+    if isinstance(chunk, int) and chunk > 0 and block_rows % chunk == 0:
+        writer_options.setdefault("cache_chunks", 1)
     if "time" not in writer_options and "time" in ds.coords and ds["time"].ndim == 0:
         writer_options["time"] = ds["time"].values
     with OutputSet(path.parent, {"file": path.name}, overwrite=overwrite) as out:

@@ -26,7 +26,7 @@ from glint.errors import InputError
 from glint.geo.grid import Grid
 from glint.io.geotiff import GeoTiffWriter
 from glint.io.naming import check_free_space
-from glint.io.netcdf import ClassFlags, NetCDFWriter
+from glint.io.netcdf import CHUNK_ROWS, ClassFlags, NetCDFWriter
 from glint.io.outputset import OutputSet, OutputWriter
 from glint.io.quicklook import (
     QuicklookStyle,
@@ -305,8 +305,10 @@ def _quicklook_style(scene: Scene, ctx: _TimeContext, variable: str) -> Quickloo
 
 
 def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
-                  ctx: _TimeContext) -> list[_Feed]:
-    """One writer per planned file of the time, each on its temporary path."""
+                  ctx: _TimeContext, whole_chunks: bool) -> list[_Feed]:
+    """One writer per planned file of the time, each on its temporary path.
+    ``whole_chunks``: every piece fills whole NetCDF chunks, so one chunk
+    per variable is cached (not a row of them, which grows with the width)."""
     g, comp, flags = scene.grid, scene.outputs.compression, _class_flags(scene)
     feeds: list[_Feed] = []
     if files.has("geotiff"):
@@ -322,7 +324,8 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
     if files.has("netcdf"):
         nc_vars = request.float_vars + (("glint_class",) if request.with_classes else ())
         feeds.append(_Feed(out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
-            p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags)),
+            p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags,
+            cache_chunks=1 if whole_chunks else None)),
             nc_vars))
     left, bottom, right, top = g.bounds
 
@@ -339,11 +342,11 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
 
 def _write_time(out: OutputSet, files: TimeFiles, scene: Scene, request: _Request,
                 pieces: Iterable[_Piece], progress: Callable[[int, int], None] | None,
-                ctx: _TimeContext) -> MapSummary:
+                ctx: _TimeContext, whole_chunks: bool) -> MapSummary:
     """Feed one time's strips (or windows of strips) to its writers; returns
     the time's summary."""
     g = scene.grid
-    feeds = _open_writers(out, files, scene, request, ctx)
+    feeds = _open_writers(out, files, scene, request, ctx, whole_chunks)
     tally = GlintTally(scene.classes.names)
     for rows, cols, strip in pieces:
         for feed in feeds:
@@ -502,6 +505,10 @@ def write_maps(
     g = scene.grid
     given = None if blocks is None else _given_strips(blocks, len(plan.times), g.height,
                                                         request.needed)
+    # The engine's windows are whole tiles of block_rows: they fill whole
+    # NetCDF chunks when block_rows is a multiple of the chunk size. A
+    # caller's strips may be of any height.
+    whole_chunks = given is None and block_rows % CHUNK_ROWS == 0
     summaries: list[MapSummary] = []
     with plan.output_set as out:
         check_free_space(out.directory, request.estimated_bytes(g) * len(plan.times))
@@ -519,7 +526,8 @@ def write_maps(
                 pieces = computed_ahead(compute.iter_windows(
                     scene, time=files.time, block_rows=block_rows, variables=request.needed,
                     plan=ctx.plan, params=ctx.params))
-            summaries.append(_write_time(out, files, scene, request, pieces, progress, ctx))
+            summaries.append(_write_time(out, files, scene, request, pieces, progress, ctx,
+                                         whole_chunks))
         if given is not None:
             next(given, None)  # refuses strips beyond the last time
     return MapResult(files=list(out.files), summaries=summaries)
@@ -532,10 +540,15 @@ _GDAL_CACHE = 256 * 2**20
 def _memory_needed(request: _Request) -> int:
     """Memory a map run needs beyond the interpreter and its libraries
     [bytes]: the engine's windows (:func:`glint.engine.compute.window_memory`),
-    GDAL's block cache when GeoTIFFs are written and the PNG's decimated copy."""
+    GDAL's block cache when GeoTIFFs are written, the NetCDF chunk cache (one
+    chunk of each variable and of lat/lon) and the PNG's decimated copy."""
     need = compute.window_memory(request.needed)
-    if any(k in request.suffixes() for k in ("geotiff", "classes")):
+    suffixes = request.suffixes()
+    if any(k in suffixes for k in ("geotiff", "classes")):
         need += _GDAL_CACHE
+    if "netcdf" in suffixes:
+        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in request.needed)
+        need += CHUNK_ROWS * CHUNK_ROWS * (per_pixel + 16)
     return need + 1200 * 1200 * 4
 
 
