@@ -29,6 +29,7 @@ from glint.errors import InputError, OutputError
 from glint.geo.grid import Grid
 from glint.io.naming import check_free_space
 from glint.io.outputset import OutputSet
+from glint.io.overviews import OverviewLevels, append_overviews, overview_supported
 from glint.io.strips import StripArrays, check_variables, dataset_strips, dataset_variables, \
     col_range, row_range, strip_arrays
 from glint.variables import CLASS_NODATA, VARIABLES
@@ -310,7 +311,13 @@ class GeoTiffWriter:
         #: Where the strips go: ``path``, or the working copy of a COG.
         self.work_path = Path(f"{self.path}.work.tif") if self.cog else self.path
         self._dst: Any = None
+        self._levels: OverviewLevels | None = None
         self._open()
+
+    @property
+    def factors(self) -> list[int]:
+        """Overview factors of the map (none when the map fits one tile)."""
+        return overview_factors(self.grid.shape, self.blocksize)
 
     @property
     def compress(self) -> str:
@@ -346,12 +353,25 @@ class GeoTiffWriter:
         import rasterio
 
         raw = self.grid.size * self.dtype.itemsize * len(self.variables)
-        # compressed output rarely exceeds half the raw size; a COG needs a copy
-        check_free_space(self.path.parent, raw // (1 if self.cog else 2))
+        # compressed output rarely exceeds half the raw size; a COG needs a
+        # copy; overview levels add a third of the map (written twice: as
+        # level files, then appended)
+        levels = self.overviews and not self.cog and overview_supported(
+            self.resampling, self.dtype, self.nodata) and bool(self.factors)
+        check_free_space(self.path.parent,
+                         raw // (1 if self.cog else 2) + (raw // 6 if levels else 0))
         try:
             with self._env():
-                self._dst = rasterio.open(self.work_path, "w", **self._profile())
+                profile = self._profile()
+                self._dst = rasterio.open(self.work_path, "w", **profile)
                 _describe_bands(self._dst, self.variables, self.tags, self.colormap)
+            if levels:
+                level_profile = {k: v for k, v in profile.items()
+                                 if k not in ("crs", "transform", "width", "height", "count",
+                                              "dtype", "bigtiff")}
+                self._levels = OverviewLevels(
+                    self.work_path, self.grid.shape, len(self.factors), len(self.variables),
+                    self.dtype, self.resampling, level_profile, self._env)
         except BaseException:
             self.abort()
             raise
@@ -379,24 +399,37 @@ class GeoTiffWriter:
         c0, c1 = col_range(cols, self.grid.width)
         data = strip_arrays(self.variables, arrays, (r1 - r0, c1 - c0))
         window = Window(c0, r0, c1 - c0, r1 - r0)
+        data = [a.astype(self.dtype, copy=False) for a in data]
         with self._env():
             for i, a in enumerate(data, start=1):
-                self._dst.write(a.astype(self.dtype, copy=False), i, window=window)
+                self._dst.write(a, i, window=window)
+        if self._levels is not None and r1 > r0 and c1 > c0:
+            self._levels.add(r0, r1, c0, c1, data)
 
     def close(self) -> None:
-        """Build overviews (or the COG layout) and finish the file."""
+        """Finish the overviews (or the COG layout) and the file."""
+        import rasterio
         from rasterio.enums import Resampling
 
         if self._dst is None:
             return
         try:
+            level_paths = self._levels.finish() if self._levels is not None else []
             with self._env():
-                factors = overview_factors(self.grid.shape, self.blocksize)
-                if self.overviews and not self.cog and factors:
-                    self._dst.build_overviews(factors, Resampling[self.resampling])
+                if self.overviews and not self.cog and self.factors:
+                    if not level_paths:
+                        self._dst.build_overviews(self.factors, Resampling[self.resampling])
                     self._dst.update_tags(ns="rio_overview", resampling=self.resampling)
                 self._dst.close()
                 self._dst = None
+                if level_paths and not append_overviews(self.work_path, level_paths):
+                    # a classic TIFF would pass 4 GiB: GDAL builds them
+                    log.info("overviews of %s built by GDAL (classic TIFF size limit)",
+                             self.path)
+                    with rasterio.open(self.work_path, "r+") as dst:
+                        dst.build_overviews(self.factors, Resampling[self.resampling])
+                if self._levels is not None:
+                    self._levels.discard()
                 if self.cog:
                     self._copy_to_cog()
                 if self.categories:
@@ -428,12 +461,14 @@ class GeoTiffWriter:
                     p.unlink()
 
     def abort(self) -> None:
-        """Close the dataset and remove the COG's working copy; the file at
-        :attr:`path` is removed by the output set."""
+        """Close the dataset, remove the overview level files and the COG's
+        working copy; the file at :attr:`path` is removed by the output set."""
         if self._dst is not None:
             with contextlib.suppress(Exception):
                 self._dst.close()
             self._dst = None
+        if self._levels is not None:
+            self._levels.discard()
         self._remove_work_files()
 
     def __enter__(self) -> GeoTiffWriter:
