@@ -94,6 +94,9 @@ def run(way: str, size: int, outdir: Path, cache: Path) -> dict:
     from rasterio.enums import Resampling
     from rasterio.windows import Window
 
+    from glint.geo.grid import Grid
+    from glint.io.geotiff import GeoTiffWriter
+
     bands = _bands(size, cache)
     path = outdir / f"{way}.tif"
     prof = _profile(size)
@@ -108,9 +111,6 @@ def run(way: str, size: int, outdir: Path, cache: Path) -> dict:
                     dst.write(part, window=Window(0, r0, size, part.shape[1]))
                 dst.build_overviews(factors, Resampling.average)
     else:
-        from glint.geo.grid import Grid
-        from glint.io.geotiff import GeoTiffWriter
-
         grid = Grid(32631, prof["transform"], (size, size))
         with GeoTiffWriter(path, grid, VARIABLES) as w:
             for r0 in range(0, size, 512):

@@ -16,17 +16,25 @@ The levels are those GDAL computes (checked against GDAL's
 
 * sizes: level ``k`` is ``ceil(height / 2**k) x ceil(width / 2**k)``, as
   GDAL's GeoTIFF driver sizes overviews of factor ``2**k``;
-* each level is computed from the previous one (GDAL "cascades" average and
-  nearest overviews the same way);
-* ``average`` (floating-point maps, NaN nodata): each overview pixel is the
+* ``average`` (floating-point maps, NaN nodata): each level is computed
+  from the previous one, as GDAL "cascades" averages; each overview pixel is the
   area-weighted mean of the valid (non-NaN) source pixels it covers, NaN when
   none is valid. When a side is even, that is the plain mean of 2 x 2
   pixels; when it is odd the overview pixel spans a little less than two
   source pixels (``n / ceil(n / 2)``), and the pixels at its edges count
   with the fraction they overlap, as GDAL does since version 3.1;
-* ``nearest`` (class maps): source pixel ``int(i * r + 0.5)`` of each axis,
-  ``r = n_source / n_overview`` (GDAL's choice: the top-left pixel of each
-  2 x 2 cell when the side is even).
+* ``nearest`` (class maps): each level picks from the map itself (as GDAL
+  does for band-interleaved files) pixel ``int(i * r + 0.5)`` of each axis,
+  ``r = n_map / n_overview`` (the top-left pixel of each cell when the side
+  is a multiple of the factor).
+
+Where a side is not a multiple of the factor, GDAL's own overviews differ
+from these on a few rows: GDAL reduces the source in blocks of rows and,
+for the first overview row of a block whose source pixels start above the
+block, leaves the rows above out (average: the partial row's weight goes to
+the next row; nearest: the pick moves to the block's first row). Those rows
+depend on GDAL's block sizes; here every row has its exact area weights and
+picks.
 
 Memory stays bounded: per level one tile-row (``blocksize`` rows of that
 level) waiting to be written, and at most two source rows carried over
@@ -88,7 +96,9 @@ class _Axis:
 
     ``left``/``right``: first and one-past-last source index of each
     overview pixel; ``weights``: (3, n) weights of the (at most three)
-    source pixels ``left + t``, 0 where unused; ``exact``: the ratio is 2.
+    source pixels ``left + t``, 0 where unused (computed for halving
+    only: ratios up to 2); ``nearest``: the source pixel GDAL's nearest
+    picks; ``exact``: the ratio is 2.
     """
 
     n_src: int
@@ -113,12 +123,11 @@ class _Axis:
         right = np.minimum(right, n_src)
         span = right - left
         w = np.zeros((3, n_dst))
-        w[0] = np.where(span == 1, 1.0, 1.0 - (a - left))
-        last = 1.0 - (right - b)
-        w[1] = np.where(span == 2, last, np.where(span == 3, 1.0, 0.0))
-        w[2] = np.where(span == 3, last, 0.0)
-        if (span > 3).any():  # n_dst = ceil(n_src / 2) keeps r <= 2
-            raise AssertionError("overview ratio above 2")
+        if (span <= 3).all():  # halving (r <= 2); nearest picks from further
+            w[0] = np.where(span == 1, 1.0, 1.0 - (a - left))
+            last = 1.0 - (right - b)
+            w[1] = np.where(span == 2, last, np.where(span == 3, 1.0, 0.0))
+            w[2] = np.where(span == 3, last, 0.0)
         nearest = np.minimum((i * r + 0.5).astype(np.intp), n_src - 1)
         return cls(n_src, n_dst, left, right, w, nearest)
 
@@ -263,7 +272,10 @@ class OverviewLevels:
         self.env = env
         self._reduce = _reduce_average if resampling == "average" else _reduce_nearest
         shapes = [shape, *level_shapes(shape, count)]
-        self.levels = [_Level(k, shapes[k - 1], shapes[k], bands, self.dtype,
+        # average: each level from the one above; nearest: each from the map
+        self.cascade = resampling == "average"
+        self.levels = [_Level(k, shapes[k - 1] if self.cascade else shape, shapes[k], bands,
+                              self.dtype,
                               Path(f"{self.path}.level{k}.tif")) for k in range(1, count + 1)]
         #: False once the windows stopped fitting (GDAL builds the overviews).
         self.usable = bool(self.levels)
@@ -275,6 +287,7 @@ class OverviewLevels:
         self._col_carry: list[NDArray[Any]] | None = None  # source columns for the next window
         self._col_carry0 = 0
         self._dcol = 0      # next overview column of the strip
+        self._picked: list[NDArray[Any]] = []  # nearest: the levels' rows of the strip
 
     @property
     def paths(self) -> list[Path]:
@@ -293,6 +306,9 @@ class OverviewLevels:
             self._strip = (r0, r1)
         if (r0, r1) != self._strip or c0 != self._col:
             self.discard()
+            return
+        if not self.cascade:
+            self._pick(r0, r1, c0, c1, data)
             return
         ys, xs = first.ys, first.xs
         n_out = max((ys.n_dst if r1 == h else ys.first_needing(r1)) - first.done, 0)
@@ -340,6 +356,33 @@ class OverviewLevels:
                 self.discard()
                 raise
 
+    def _pick(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]) -> None:
+        """Nearest: every level picks its pixels from the map's window."""
+        w = self.shape[1]
+        if c0 == 0:
+            self._picked = []
+        for k, lv in enumerate(self.levels):
+            ry, rx = lv.ys.nearest, lv.xs.nearest
+            i0, i1 = np.searchsorted(ry, [r0, r1])
+            j0, j1 = np.searchsorted(rx, [c0, c1])
+            if c0 == 0:
+                self._picked.append(np.empty((self.bands, i1 - i0, lv.shape[1]), self.dtype))
+            if i1 > i0 and j1 > j0:
+                rows, cols = np.ix_(ry[i0:i1] - r0, rx[j0:j1] - c0)
+                for b in range(self.bands):
+                    self._picked[k][b, :, j0:j1] = data[b][rows, cols]
+        self._col = c1
+        if c1 == w:
+            picked, self._picked = self._picked, []
+            self._row, self._col = r1, 0
+            try:
+                for k, lv in enumerate(self.levels):
+                    lv.done += picked[k].shape[1]
+                    self._produced(k, picked[k])
+            except BaseException:
+                self.discard()
+                raise
+
     def _produced(self, k: int, rows: NDArray[Any]) -> None:
         """Level ``k`` (0-based) produced ``rows``: queue them for its file and
         reduce them into the next level."""
@@ -351,7 +394,7 @@ class OverviewLevels:
             self._flush(lv, queued)
         elif queued >= self.blocksize:
             self._flush(lv, queued - queued % self.blocksize)
-        if k + 1 == len(self.levels) or not rows.shape[1]:
+        if k + 1 == len(self.levels) or not rows.shape[1] or not self.cascade:
             return
         nxt = self.levels[k + 1]
         src = rows if nxt.carry is None else np.concatenate([nxt.carry, rows], axis=1)
@@ -417,6 +460,7 @@ class OverviewLevels:
         GDAL's ``build_overviews``)."""
         self.usable = False
         self._strip_out = self._strip_carry = None
+        self._picked = []
         for lv in self.levels:
             lv.pending, lv.carry = [], None
             if lv.dst is not None:
