@@ -252,6 +252,22 @@ def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape,
             assert ov.block_shapes[0] == (512, 512) and np.isnan(ov.nodata)
 
 
+def test_cog_keeps_overviews_from_windows(tmp_path, rng):
+    from rio_cogeo.cogeo import cog_validate
+
+    names = ["glint_reflectance", "glint_fraction"]
+    grid = _ovr_grid((1301, 2029))
+    data = _ovr_data(rng, grid.shape, names)
+    path = tmp_path / "map.tif"
+    assert _write_windows(path, grid, names, data, "tiles", cog=True)
+    assert os.listdir(tmp_path) == ["map.tif"]
+    # rio-cogeo's validator is the outside reference for the COG layout
+    valid, errors, _warnings = cog_validate(str(path))
+    assert valid, errors
+    _assert_same_overviews(path, _gdal_reference(tmp_path / "gdal.tif", grid, names, data,
+                                                 [2, 4], "average", float("nan")))
+
+
 def test_overviews_without_nodata_equal_gdal(tmp_path, rng):
     # no NaN at all: GDAL's plain 2 x 2 mean on even sides
     names = ["glint_radiance"]

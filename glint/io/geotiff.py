@@ -356,7 +356,7 @@ class GeoTiffWriter:
         # compressed output rarely exceeds half the raw size; a COG needs a
         # copy; overview levels add a third of the map (written twice: as
         # level files, then appended)
-        levels = self.overviews and not self.cog and overview_supported(
+        levels = self.overviews and overview_supported(
             self.resampling, self.dtype, self.nodata) and bool(self.factors)
         check_free_space(self.path.parent,
                          raw // (1 if self.cog else 2) + (raw // 6 if levels else 0))
@@ -416,7 +416,7 @@ class GeoTiffWriter:
         try:
             level_paths = self._levels.finish() if self._levels is not None else []
             with self._env():
-                if self.overviews and not self.cog and self.factors:
+                if self.overviews and self.factors and not self.cog:
                     if not level_paths:
                         self._dst.build_overviews(self.factors, Resampling[self.resampling])
                     self._dst.update_tags(ns="rio_overview", resampling=self.resampling)
@@ -430,8 +430,8 @@ class GeoTiffWriter:
                         dst.build_overviews(self.factors, Resampling[self.resampling])
                 if self._levels is not None:
                     self._levels.discard()
-                if self.cog:
-                    self._copy_to_cog()
+                if self.cog:  # the COG driver reuses the working copy's overviews
+                    self._copy_to_cog(existing=bool(level_paths))
                 if self.categories:
                     write_category_sidecar(self.path, self.categories)
         except BaseException:
@@ -439,13 +439,13 @@ class GeoTiffWriter:
             raise
         log.info("wrote %s", self.path)
 
-    def _copy_to_cog(self) -> None:
+    def _copy_to_cog(self, existing: bool) -> None:
         import rasterio.shutil
 
         rasterio.shutil.copy(
             self.work_path, self.path, driver="COG",
             blocksize=self.blocksize, bigtiff=self.bigtiff,
-            overviews="AUTO" if self.overviews else "NONE",
+            overviews="FORCE_USE_EXISTING" if existing else "AUTO" if self.overviews else "NONE",
             overview_resampling=self.resampling, resampling=self.resampling,
             num_threads=self.num_threads, **self.compression.options(cog=True),
         )
