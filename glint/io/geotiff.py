@@ -2,9 +2,11 @@
 
 :class:`GeoTiffWriter` follows :class:`glint.io.outputset.OutputWriter`: it
 is built on the path an output set gives it (a temporary name in the output
-directory), takes full-width strips with :meth:`~GeoTiffWriter.write`,
-finishes overviews (or the COG layout) in :meth:`~GeoTiffWriter.close` and
-releases the dataset in :meth:`~GeoTiffWriter.abort`. Renaming into place,
+directory), takes full-width strips or windows of them with
+:meth:`~GeoTiffWriter.write` (reducing them into the overview levels as they
+come, :mod:`glint.io.overviews`), finishes overviews (or the COG layout) in
+:meth:`~GeoTiffWriter.close` and releases the dataset and removes the level
+files in :meth:`~GeoTiffWriter.abort`. Renaming into place,
 refusing existing files and removing temporaries on failure are the output
 set's job (:class:`glint.io.outputset.OutputSet`).
 
@@ -211,14 +213,23 @@ class GeoTiffWriter:
         GDAL ``BIGTIFF`` option, default ``"IF_SAFER"``.
     overviews : bool, optional
         Build internal overviews with factors 2, 4, 8, ... until the coarsest
-        level is smaller than ``blocksize`` (default True).
+        level is smaller than ``blocksize`` (default True). With
+        ``"average"`` on a float file with NaN nodata, or ``"nearest"``, they
+        are computed from the windows as they are written
+        (:class:`glint.io.overviews.OverviewLevels`: each level streamed into
+        ``<file>.level<k>.tif`` beside the file, appended to it at close and
+        removed), equal to GDAL's (see :mod:`glint.io.overviews` for the
+        rows at GDAL's block edges when a side is odd); otherwise, or when
+        the windows do not come as strips of rows from top to bottom (each
+        strip's windows from left to right), GDAL builds them from the
+        finished file at close.
     resampling : str, optional
         Overview resampling; default ``"average"`` for floats, ``"nearest"``
-        for integers (``"mode"`` also suits classes).
+        for integers (``"mode"`` also suits classes; GDAL builds it).
     cog : bool, optional
         Write a Cloud Optimized GeoTIFF: the strips go to a working GeoTIFF
-        beside ``path`` that GDAL's COG driver copies into the final layout
-        at close.
+        beside ``path`` (with its overviews, as above) that GDAL's COG driver
+        copies into the final layout at close, reusing those overviews.
     tags : mapping, optional
         Dataset-level metadata (scene time, sun angles, class thresholds);
         values are converted with ``str``.
@@ -227,8 +238,8 @@ class GeoTiffWriter:
     cache_mb : int, optional
         GDAL block cache while writing [MB], default 256: strips and windows
         of whole tiles are compressed and flushed as they arrive, so memory
-        stays bounded whatever the grid size (a smaller cache makes GDAL
-        re-read more of the file when it builds the overviews).
+        stays bounded whatever the grid size (when GDAL builds the
+        overviews, a smaller cache makes it re-read more of the file).
     colormap : mapping of int to (r, g, b, a), optional
         Palette of a one-band uint8 file (GIS software shows the classes in
         these colours).
@@ -244,7 +255,8 @@ class GeoTiffWriter:
     InputError
         Unknown variable, mixed data types, unknown compression or resampling.
     OutputError
-        Not enough disk space.
+        Not enough disk space (the map's raw size over 2, plus a sixth for the
+        overview levels when they are computed from the windows).
 
     Examples
     --------
