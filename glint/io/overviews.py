@@ -51,6 +51,7 @@ import math
 import os
 import struct
 import warnings
+from concurrent.futures import Future, ThreadPoolExecutor
 from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
@@ -288,6 +289,8 @@ class OverviewLevels:
         self._col_carry0 = 0
         self._dcol = 0      # next overview column of the strip
         self._picked: list[NDArray[Any]] = []  # nearest: the levels' rows of the strip
+        self._pool: ThreadPoolExecutor | None = None  # writes the level files
+        self._future: Future[None] | None = None
 
     @property
     def paths(self) -> list[Path]:
@@ -413,15 +416,24 @@ class OverviewLevels:
         self._produced(k + 1, out)
 
     def _flush(self, lv: _Level, n: int) -> None:
-        """Write the first ``n`` queued rows of a level (whole tile-rows, or
-        the last rows)."""
+        """Hand the first ``n`` queued rows of a level (whole tile-rows, or
+        the last rows) to the thread that writes the levels: GDAL compresses
+        them while this thread goes on with the map (one batch at a time, so
+        memory stays bounded)."""
+        queued = lv.pending[0] if len(lv.pending) == 1 else np.concatenate(lv.pending, axis=1)
+        data = np.ascontiguousarray(queued[:, :n])
+        lv.pending = [queued[:, n:]] if n < queued.shape[1] else []
+        self._wait()
+        if self._pool is None:
+            self._pool = ThreadPoolExecutor(1, thread_name_prefix="glint-overviews")
+        self._future = self._pool.submit(self._write, lv, data, lv.written)
+        lv.written += n
+
+    def _write(self, lv: _Level, data: NDArray[Any], row: int) -> None:
         import rasterio
         from rasterio.errors import NotGeoreferencedWarning
         from rasterio.windows import Window
 
-        queued = lv.pending[0] if len(lv.pending) == 1 else np.concatenate(lv.pending, axis=1)
-        data = queued[:, :n]
-        lv.pending = [queued[:, n:]] if n < queued.shape[1] else []
         with self.env():
             if lv.dst is None:
                 with warnings.catch_warnings():
@@ -430,8 +442,13 @@ class OverviewLevels:
                         lv.path, "w", **(self.profile | dict(
                             driver="GTiff", width=lv.shape[1], height=lv.shape[0],
                             count=self.bands, dtype=self.dtype.name)))
-            lv.dst.write(np.ascontiguousarray(data), window=Window(0, lv.written, lv.shape[1], n))
-        lv.written += n
+            lv.dst.write(data, window=Window(0, row, lv.shape[1], data.shape[1]))
+
+    def _wait(self) -> None:
+        """Wait for the level rows being written (raising what failed)."""
+        future, self._future = self._future, None
+        if future is not None:
+            future.result()
 
     # ---------------------------------------------------------- finishing
     @property
@@ -446,6 +463,7 @@ class OverviewLevels:
             self.discard()
             return []
         try:
+            self._wait()
             with self.env():
                 for lv in self.levels:
                     lv.dst.close()
@@ -453,12 +471,21 @@ class OverviewLevels:
         except BaseException:
             self.discard()
             raise
+        self._stop()
         return self.paths
+
+    def _stop(self) -> None:
+        if self._pool is not None:
+            self._pool.shutdown(wait=True)
+            self._pool = None
 
     def discard(self) -> None:
         """Drop the levels and remove their files (the writer falls back to
         GDAL's ``build_overviews``)."""
         self.usable = False
+        with contextlib.suppress(Exception):
+            self._wait()  # the level being written is closed below
+        self._stop()
         self._strip_out = self._strip_carry = None
         self._picked = []
         for lv in self.levels:
