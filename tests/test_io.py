@@ -335,6 +335,7 @@ def test_overview_level_files_removed_when_writing_fails(tmp_path, rng):
             # 256-pixel tiles: level 1 writes its first tile-row after 512 rows
             w = out.writer("f", lambda p: GeoTiffWriter(p, grid, names, blocksize=256))
             w.write(slice(0, 512), {n: data[n][:512] for n in names})
+            w._levels._wait()  # the thread writing the levels has written it
             assert [p.exists() for p in w._levels.paths] == [True, False, False]
             raise RuntimeError("boom")
     assert os.listdir(tmp_path) == []
