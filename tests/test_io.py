@@ -341,6 +341,22 @@ def test_overview_level_files_removed_when_writing_fails(tmp_path, rng):
     assert os.listdir(tmp_path) == []
 
 
+def test_failure_writing_a_level_fails_the_map(tmp_path, rng, monkeypatch):
+    import glint.io.overviews as ovr
+
+    def full_disk(self, lv, data, row):
+        lv.path.write_bytes(b"partial")
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(ovr.OverviewLevels, "_write", full_disk)
+    names = ["glint_fraction"]
+    grid = _ovr_grid((1100, 1300))
+    data = _ovr_data(rng, grid.shape, names)
+    with pytest.raises(OSError, match="No space left"):
+        _write_windows(tmp_path / "map.tif", grid, names, data, "strips")
+    assert os.listdir(tmp_path) == []  # neither the map nor a level file
+
+
 @pytest.mark.filterwarnings("ignore::rasterio.errors.NotGeoreferencedWarning")
 def test_append_overviews_refuses_other_files(tmp_path):
     from glint.io.overviews import append_overviews
