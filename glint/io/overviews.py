@@ -171,40 +171,50 @@ def _halve_average(a: NDArray[Any]) -> NDArray[Any]:
     return out
 
 
-def _weighted(v: NDArray[np.float64], left: NDArray[np.intp], w: NDArray[np.float64],
-              axis: int) -> NDArray[np.float64]:
-    """Sum over the (at most 3) taps of an axis, with their weights."""
-    n = v.shape[axis]
-    out: NDArray[np.float64] | None = None
-    for t in range(3):
-        if not w[t].any():
-            continue
-        idx = np.minimum(left + t, n - 1)
-        part = np.take(v, idx, axis=axis)
-        shape = [1, 1]
-        shape[axis] = -1
-        part *= w[t].reshape(shape)
-        out = part if out is None else out + part
-    assert out is not None
-    return out
+@numba.njit(cache=True, nogil=True)
+def _weighted_kernel(a: Any, yl: Any, yw: Any, xl: Any, xw: Any,
+                     out: Any) -> None:  # pragma: no cover - compiled
+    for i in range(out.shape[0]):
+        for j in range(out.shape[1]):
+            total = 0.0
+            weight = 0.0
+            n = 0
+            for ty in range(3):
+                wy = yw[ty, i]
+                if wy == 0.0:
+                    continue
+                y = yl[i] + ty
+                line = 0.0
+                line_weight = 0.0
+                for tx in range(3):
+                    wx = xw[tx, j]
+                    if wx == 0.0:
+                        continue
+                    v = a[y, xl[j] + tx]
+                    if not np.isnan(v):
+                        line += v * wx
+                        line_weight += wx
+                        n += 1
+                total += line * wy
+                weight += line_weight * wy
+            out[i, j] = total / weight if n else np.nan
 
 
 def _reduce_average(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis,
                     cols: slice, row0: int, col0: int) -> NDArray[Any]:
     """Overview rows ``rows`` x columns ``cols`` of a NaN-aware area-weighted
-    mean, from source ``a`` whose first row/column is ``row0``/``col0``."""
+    mean, from source ``a`` whose first row/column is ``row0``/``col0``:
+    along each axis the (at most three) source pixels an overview pixel
+    covers, weighted by the fraction covered, summed row by row in double
+    precision in GDAL's order (left, middle, right; top to bottom)."""
     yl, yw = ys.left[rows] - row0, ys.weights[:, rows]
     xl, xw = xs.left[cols] - col0, xs.weights[:, cols]
     if ys.exact and xs.exact:
         r0, c0 = int(yl[0]) if yl.size else 0, int(xl[0]) if xl.size else 0
         return _halve_average(a[r0:r0 + 2 * len(yl), c0:c0 + 2 * len(xl)])
-    valid = ~np.isnan(a)
-    v = np.where(valid, a, 0).astype(np.float64)
-    total = _weighted(_weighted(v, xl, xw, 1), yl, yw, 0)
-    weight = _weighted(_weighted(valid.astype(np.float64), xl, xw, 1), yl, yw, 0)
-    with np.errstate(invalid="ignore", divide="ignore"):
-        out = np.where(weight > 0, total / weight, np.nan)
-    return out.astype(a.dtype)
+    out = np.empty((len(yl), len(xl)), a.dtype)
+    _weighted_kernel(a, yl, yw, xl, xw, out)
+    return out
 
 
 def _reduce_nearest(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis, cols: slice,
@@ -228,7 +238,8 @@ class _Level:
         self.bands = bands
         self.done = 0            # overview rows produced
         self.written = 0         # overview rows written to the file
-        self.pending: list[NDArray[Any]] = []   # produced, waiting for a tile-row
+        self.buffer: NDArray[Any] | None = None  # the tile-row being filled
+        self.filled = 0          # rows of it filled
         self.carry: NDArray[Any] | None = None  # source rows kept for the next rows
         self.carry0 = 0          # source row of carry[:, 0]
         self.dst: Any = None
@@ -390,13 +401,17 @@ class OverviewLevels:
         """Level ``k`` (0-based) produced ``rows``: queue them for its file and
         reduce them into the next level."""
         lv = self.levels[k]
-        if rows.shape[1]:
-            lv.pending.append(rows)
-        queued = sum(p.shape[1] for p in lv.pending)
-        if lv.done == lv.shape[0] and queued:
-            self._flush(lv, queued)
-        elif queued >= self.blocksize:
-            self._flush(lv, queued - queued % self.blocksize)
+        i = 0
+        while i < rows.shape[1]:  # into the tile-row buffer, written when full
+            if lv.buffer is None:
+                size = min(self.blocksize, lv.shape[0] - lv.written)
+                lv.buffer, lv.filled = np.empty((self.bands, size, lv.shape[1]), self.dtype), 0
+            n = min(rows.shape[1] - i, lv.buffer.shape[1] - lv.filled)
+            lv.buffer[:, lv.filled:lv.filled + n] = rows[:, i:i + n]
+            lv.filled += n
+            i += n
+            if lv.filled == lv.buffer.shape[1]:
+                self._flush(lv)
         if k + 1 == len(self.levels) or not rows.shape[1] or not self.cascade:
             return
         nxt = self.levels[k + 1]
@@ -415,19 +430,17 @@ class OverviewLevels:
         nxt.carry0 = keep_from
         self._produced(k + 1, out)
 
-    def _flush(self, lv: _Level, n: int) -> None:
-        """Hand the first ``n`` queued rows of a level (whole tile-rows, or
-        the last rows) to the thread that writes the levels: GDAL compresses
-        them while this thread goes on with the map (one batch at a time, so
-        memory stays bounded)."""
-        queued = lv.pending[0] if len(lv.pending) == 1 else np.concatenate(lv.pending, axis=1)
-        data = np.ascontiguousarray(queued[:, :n])
-        lv.pending = [queued[:, n:]] if n < queued.shape[1] else []
+    def _flush(self, lv: _Level) -> None:
+        """Hand a level's full tile-row buffer (or its last rows) to the
+        thread that writes the levels: GDAL compresses it while this thread
+        goes on with the map (one buffer at a time, so memory stays bounded)."""
+        data, lv.buffer = lv.buffer, None
+        assert data is not None
         self._wait()
         if self._pool is None:
             self._pool = ThreadPoolExecutor(1, thread_name_prefix="glint-overviews")
         self._future = self._pool.submit(self._write, lv, data, lv.written)
-        lv.written += n
+        lv.written += data.shape[1]
 
     def _write(self, lv: _Level, data: NDArray[Any], row: int) -> None:
         import rasterio
@@ -489,7 +502,7 @@ class OverviewLevels:
         self._strip_out = self._strip_carry = None
         self._picked = []
         for lv in self.levels:
-            lv.pending, lv.carry = [], None
+            lv.buffer, lv.carry = None, None
             if lv.dst is not None:
                 with contextlib.suppress(Exception):
                     lv.dst.close()
