@@ -324,6 +324,11 @@ class GeoTiffWriter:
         self.work_path = Path(f"{self.path}.work.tif") if self.cog else self.path
         self._dst: Any = None
         self._levels: OverviewLevels | None = None
+        #: After :meth:`close`: ``"windows"`` when the overviews were computed
+        #: from the written windows, ``"gdal"`` when GDAL built them from the
+        #: file (for a COG without overviews from the windows, the COG driver
+        #: builds them), None without overviews.
+        self.overviews_from: str | None = None
         self._open()
 
     @property
@@ -431,15 +436,19 @@ class GeoTiffWriter:
                 if self.overviews and self.factors and not self.cog:
                     if not level_paths:
                         self._dst.build_overviews(self.factors, Resampling[self.resampling])
+                        self.overviews_from = "gdal"
                     self._dst.update_tags(ns="rio_overview", resampling=self.resampling)
                 self._dst.close()
                 self._dst = None
-                if level_paths and not append_overviews(self.work_path, level_paths):
-                    # a classic TIFF would pass 4 GiB: GDAL builds them
-                    log.info("overviews of %s built by GDAL (classic TIFF size limit)",
-                             self.path)
-                    with rasterio.open(self.work_path, "r+") as dst:
-                        dst.build_overviews(self.factors, Resampling[self.resampling])
+                if level_paths:
+                    self.overviews_from = "windows"
+                    if not append_overviews(self.work_path, level_paths):
+                        # a classic TIFF would pass 4 GiB: GDAL builds them
+                        log.info("overviews of %s built by GDAL (classic TIFF size limit)",
+                                 self.path)
+                        with rasterio.open(self.work_path, "r+") as dst:
+                            dst.build_overviews(self.factors, Resampling[self.resampling])
+                        self.overviews_from = "gdal"
                 if self._levels is not None:
                     self._levels.discard()
                 if self.cog:  # the COG driver reuses the working copy's overviews

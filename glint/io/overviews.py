@@ -364,8 +364,8 @@ class OverviewLevels:
             out, self._strip_out = self._strip_out, None
             first.done = nxt
             self._row, self._col = r1, 0
-            try:
-                self._produced(0, out)
+            try:  # the coarser levels and the writing: in the levels' thread
+                self._submit(self._produced, 0, out, nxt)
             except BaseException:
                 self.discard()
                 raise
@@ -389,17 +389,32 @@ class OverviewLevels:
         if c1 == w:
             picked, self._picked = self._picked, []
             self._row, self._col = r1, 0
-            try:
-                for k, lv in enumerate(self.levels):
-                    lv.done += picked[k].shape[1]
-                    self._produced(k, picked[k])
+            for k, lv in enumerate(self.levels):
+                lv.done += picked[k].shape[1]
+            try:  # the writing: in the levels' thread
+                self._submit(self._produced_each, picked, [lv.done for lv in self.levels])
             except BaseException:
                 self.discard()
                 raise
 
-    def _produced(self, k: int, rows: NDArray[Any]) -> None:
-        """Level ``k`` (0-based) produced ``rows``: queue them for its file and
-        reduce them into the next level."""
+    def _submit(self, fn: Callable[..., None], *args: Any) -> None:
+        """Run ``fn(*args)`` in the thread that writes the levels, once the
+        previous call is done (so at most one strip is in flight): GDAL
+        compresses the levels while this thread goes on with the map."""
+        self._wait()
+        if self._pool is None:
+            self._open_levels()
+            self._pool = ThreadPoolExecutor(1, thread_name_prefix="glint-overviews")
+        self._future = self._pool.submit(fn, *args)
+
+    def _produced_each(self, picked: list[NDArray[Any]], ends: list[int]) -> None:
+        for k, rows in enumerate(picked):
+            self._produced(k, rows, ends[k])
+
+    def _produced(self, k: int, rows: NDArray[Any], end: int) -> None:
+        """Level ``k`` (0-based) produced ``rows``, its rows up to ``end``:
+        queue them for its file and reduce them into the next level (in the
+        levels' thread)."""
         lv = self.levels[k]
         i = 0
         while i < rows.shape[1]:  # into the tile-row buffer, written when full
@@ -416,8 +431,7 @@ class OverviewLevels:
             return
         nxt = self.levels[k + 1]
         src = rows if nxt.carry is None else np.concatenate([nxt.carry, rows], axis=1)
-        row0 = lv.done - rows.shape[1] if nxt.carry is None else nxt.carry0
-        end = lv.done
+        row0 = end - rows.shape[1] if nxt.carry is None else nxt.carry0
         n_out = (nxt.ys.n_dst if end == lv.shape[0] else nxt.ys.first_needing(end)) - nxt.done
         out = np.empty((self.bands, max(n_out, 0), nxt.shape[1]), self.dtype)
         if n_out > 0:
@@ -428,34 +442,37 @@ class OverviewLevels:
         keep_from = int(nxt.ys.left[nxt.done]) if nxt.done < nxt.ys.n_dst else end
         nxt.carry = src[:, keep_from - row0:].copy() if keep_from < end else None
         nxt.carry0 = keep_from
-        self._produced(k + 1, out)
+        self._produced(k + 1, out, nxt.done)
 
     def _flush(self, lv: _Level) -> None:
-        """Hand a level's full tile-row buffer (or its last rows) to the
-        thread that writes the levels: GDAL compresses it while this thread
-        goes on with the map (one buffer at a time, so memory stays bounded)."""
+        """Write a level's full tile-row buffer (or its last rows)."""
         data, lv.buffer = lv.buffer, None
         assert data is not None
-        self._wait()
-        if self._pool is None:
-            self._pool = ThreadPoolExecutor(1, thread_name_prefix="glint-overviews")
-        self._future = self._pool.submit(self._write, lv, data, lv.written)
+        self._write(lv, data, lv.written)
         lv.written += data.shape[1]
 
     def _write(self, lv: _Level, data: NDArray[Any], row: int) -> None:
-        import rasterio
-        from rasterio.errors import NotGeoreferencedWarning
+        """Write rows of a level (in the levels' thread: no GDAL configuration
+        is touched here, the files were opened by the writer's thread)."""
         from rasterio.windows import Window
 
-        with self.env():
-            if lv.dst is None:
-                with warnings.catch_warnings():
-                    warnings.simplefilter("ignore", NotGeoreferencedWarning)
+        lv.dst.write(data, window=Window(0, row, lv.shape[1], data.shape[1]))
+
+    def _open_levels(self) -> None:
+        """Create the level files (in the writer's thread, in its GDAL
+        environment: GDAL's configuration is global, and setting it from two
+        threads would leave the wrong values behind)."""
+        import rasterio
+        from rasterio.errors import NotGeoreferencedWarning
+
+        with self.env(), warnings.catch_warnings():
+            warnings.simplefilter("ignore", NotGeoreferencedWarning)
+            for lv in self.levels:
+                if lv.dst is None:
                     lv.dst = rasterio.open(
                         lv.path, "w", **(self.profile | dict(
                             driver="GTiff", width=lv.shape[1], height=lv.shape[0],
                             count=self.bands, dtype=self.dtype.name)))
-            lv.dst.write(data, window=Window(0, row, lv.shape[1], data.shape[1]))
 
     def _wait(self) -> None:
         """Wait for the level rows being written (raising what failed)."""
@@ -472,11 +489,15 @@ class OverviewLevels:
     def finish(self) -> list[Path]:
         """Close the level files; return their paths (empty when the levels
         are not complete: then nothing is kept and GDAL builds them)."""
+        try:
+            self._wait()
+        except BaseException:
+            self.discard()
+            raise
         if not self.complete:
             self.discard()
             return []
         try:
-            self._wait()
             with self.env():
                 for lv in self.levels:
                     lv.dst.close()
