@@ -22,7 +22,7 @@ The levels are those GDAL computes (checked against GDAL's
   none is valid. When a side is even, that is the plain mean of 2 x 2
   pixels; when it is odd the overview pixel spans a little less than two
   source pixels (``n / ceil(n / 2)``), and the pixels at its edges count
-  with the fraction they overlap, as GDAL does since version 3.1;
+  with the fraction they overlap, as GDAL 3.10 does;
 * ``nearest`` (class maps): each level picks from the map itself (as GDAL
   does for band-interleaved files) pixel ``int(i * r + 0.5)`` of each axis,
   ``r = n_map / n_overview`` (the top-left pixel of each cell when the side
@@ -36,12 +36,17 @@ the next row; nearest: the pick moves to the block's first row). Those rows
 depend on GDAL's block sizes; here every row has its exact area weights and
 picks.
 
-Memory stays bounded: per level one tile-row (``blocksize`` rows of that
-level) waiting to be written, and at most two source rows carried over
-between strips. Other resamplings, nodata values other than NaN for
-averages, and windows that do not arrive as strips of rows from left to
-right (with even column edges) are not handled here: the writer falls back
-to GDAL's ``build_overviews`` (:attr:`OverviewLevels.usable` turns False).
+The writer's thread reduces each window into level 1 (average) or picks
+every level from it (nearest); each finished strip goes to a thread of its
+own that reduces the coarser levels and writes the level files (GDAL
+compresses them meanwhile), one strip in flight at a time. Memory stays
+bounded: per level one tile-row (``blocksize`` rows of that level) being
+filled, the strip in flight, and at most two source rows and columns
+carried over between strips and windows. Other resamplings, nodata values
+other than NaN for averages, and windows that do not arrive as strips of
+rows from top to bottom (each from left to right) are not handled here: the
+writer falls back to GDAL's ``build_overviews`` (:attr:`OverviewLevels.usable`
+turns False).
 """
 
 from __future__ import annotations
@@ -51,8 +56,8 @@ import math
 import os
 import struct
 import warnings
-from concurrent.futures import Future, ThreadPoolExecutor
 from collections.abc import Callable, Mapping, Sequence
+from concurrent.futures import Future, ThreadPoolExecutor
 from dataclasses import dataclass
 from pathlib import Path
 from typing import Any, BinaryIO
@@ -61,7 +66,7 @@ import numba
 import numpy as np
 from numpy.typing import NDArray
 
-from glint.errors import OutputError
+from glint.errors import InputError, OutputError
 
 __all__ = ["OverviewLevels", "append_overviews", "level_shapes", "overview_supported"]
 
@@ -224,8 +229,9 @@ def _reduce_nearest(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis, cols: sl
 
 # ----------------------------------------------------------------- levels
 class _Level:
-    """One overview level: its reduction from the level above, the rows
-    waiting for a whole tile-row, and the GeoTIFF they are written to."""
+    """One overview level: its reduction from its source (the level above,
+    or the map for nearest), the tile-row being filled, and the GeoTIFF it
+    is written to."""
 
     def __init__(self, index: int, src_shape: tuple[int, int], shape: tuple[int, int],
                  bands: int, dtype: np.dtype[Any], path: Path) -> None:
@@ -273,7 +279,7 @@ class OverviewLevels:
                  dtype: np.dtype[Any], resampling: str, profile: Mapping[str, Any],
                  env: Callable[[], Any]) -> None:
         if resampling not in RESAMPLINGS:
-            raise ValueError(f"resampling must be one of {RESAMPLINGS!r}; got {resampling!r}")
+            raise InputError(f"resampling must be one of {RESAMPLINGS!r}; got {resampling!r}")
         self.path = Path(path)
         self.shape = shape
         self.bands = bands
@@ -311,7 +317,10 @@ class OverviewLevels:
     # ------------------------------------------------------------ feeding
     def add(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]) -> None:
         """Take the window rows ``r0:r1`` x columns ``c0:c1`` (one array per
-        band, already of the map's data type)."""
+        band, already of the map's data type). Windows must come as strips
+        of rows from top to bottom, each strip's windows from left to right
+        (the writers' contract); any other order drops the levels
+        (:attr:`usable` turns False and the writer lets GDAL build them)."""
         if not self.usable:
             return
         h, w = self.shape
@@ -604,11 +613,12 @@ def _read_ifd(f: BinaryIO, t: _Tiff, offset: int, path: Path
     return entries, next_pos, nxt
 
 
-def _ints(entry: tuple[int, int, bytes]) -> list[int]:
+def _ints(entry: tuple[int, int, bytes], path: Path) -> list[int]:
     typ, count, data = entry
     code = {3: "H", 4: "I", 16: "Q", 13: "I", 18: "Q"}.get(typ)
     if code is None:
-        raise OutputError(f"TIFF offsets of type {typ} are not supported")
+        raise OutputError(f"{str(path)!r}: TIFF tile offsets of type {typ}; expected "
+                          "SHORT, LONG or LONG8")
     return list(struct.unpack(f"<{count}{code}", data))
 
 
@@ -703,7 +713,8 @@ def append_overviews(path: str | os.PathLike[str], level_paths: Sequence[str | o
                 entries, _, _ = _read_ifd(g, lt, lt.first_ifd, lp)
                 if _TILE_OFFSETS not in entries or _TILE_BYTE_COUNTS not in entries:
                     raise OutputError(f"{str(lp)!r} is not a tiled TIFF")
-                offsets, counts = _ints(entries[_TILE_OFFSETS]), _ints(entries[_TILE_BYTE_COUNTS])
+                offsets = _ints(entries[_TILE_OFFSETS], lp)
+                counts = _ints(entries[_TILE_BYTE_COUNTS], lp)
                 f.seek(0, os.SEEK_END)
                 new_offsets = []
                 for off, cnt in zip(offsets, counts, strict=True):
