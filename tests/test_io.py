@@ -133,6 +133,256 @@ def test_geotiff_lerc_error_bound(tmp_path, grid, data):
     assert np.nanmax(np.abs(arr - data["glint_reflectance"])) <= 1e-3 + 8e-6
 
 
+# ------------------------------------------- overviews built from the windows
+def _ovr_grid(shape):
+    # Invented 10 m grid, UTM 31N.
+    return Grid(32631, Affine(10.0, 0.0, 600000.0, 0.0, -10.0, 5800000.0), shape)
+
+
+def _ovr_data(rng, shape, names, nan=True):
+    out = {}
+    for n in names:
+        # a smooth field plus noise, so that averaging errors would show
+        y, x = np.mgrid[0:shape[0], 0:shape[1]]
+        a = (np.sin(y / 97.0) * np.cos(x / 61.0) + rng.normal(0, 0.1, shape)).astype("float32")
+        if nan:
+            a[rng.uniform(size=shape) < 0.15] = np.nan   # scattered nodata
+            a[:300, :200] = np.nan                        # a block of nodata (land)
+        out[n] = a
+    return out
+
+
+def _write_windows(path, grid, names, data, layout, rows=512, cols=512, **kw):
+    """Write through an output set as full-width strips or windows of tiles."""
+    h, w = grid.shape
+    with OutputSet(path.parent, {"f": path.name}) as out:
+        wr = out.writer("f", lambda p: GeoTiffWriter(p, grid, names, **kw))
+        for r0 in range(0, h, rows):
+            r1 = min(r0 + rows, h)
+            spans = [(0, w)] if layout == "strips" else \
+                [(c, min(c + cols, w)) for c in range(0, w, cols)]
+            for c0, c1 in spans:
+                wr.write((r0, r1), {n: data[n][r0:r1, c0:c1] for n in names}, cols=(c0, c1))
+    return wr.overviews_from == "windows"
+
+
+def _gdal_reference(path, grid, names, data, factors, resampling, nodata):
+    """The same bands written by rasterio alone, overviews by GDAL's build_overviews."""
+    from rasterio.enums import Resampling
+
+    dtype = data[names[0]].dtype.name
+    with rasterio.open(path, "w", driver="GTiff", width=grid.width, height=grid.height,
+                       count=len(names), dtype=dtype, nodata=nodata, crs="EPSG:32631",
+                       transform=grid.transform, tiled=True,
+                       blockxsize=512, blockysize=512, interleave="band") as dst:
+        for i, n in enumerate(names, start=1):
+            dst.write(data[n], i)
+        dst.build_overviews(factors, Resampling[resampling])
+    return path
+
+
+def _gdal_block_edge_rows(n_src, n_dst):
+    """Overview rows whose source rows straddle a multiple of 256 when the
+    ratio is not 2: there GDAL 3.10, reducing the source in blocks of rows,
+    leaves out the source rows above the block (observed; see the docstring
+    of glint.io.overviews), so only those rows may differ from GDAL's."""
+    if n_src == 2 * n_dst:
+        return set()
+    r = n_src / n_dst
+    return {i for i in range(n_dst) if int(i * r) // 256 != int(np.ceil((i + 1) * r) - 1) // 256}
+
+
+def _assert_same_overviews(path, ref, cascade=True):
+    with rasterio.open(path) as a, rasterio.open(ref) as b:
+        assert a.overviews(1) == b.overviews(1) != []
+        levels = len(a.overviews(1))
+        src_rows = base_rows = a.height
+    above: set[int] = set()  # rows of the level above that differ
+    for k in range(levels):
+        with rasterio.open(path, overview_level=k) as a, rasterio.open(ref, overview_level=k) as b:
+            assert a.shape == b.shape
+            x, y = a.read(), b.read()
+        # pixel for pixel, NaN where GDAL has NaN, but on GDAL's block edges
+        differ = ~((x == y) | (np.isnan(x) & np.isnan(y)) if x.dtype.kind == "f" else x == y)
+        rows = set(np.nonzero(differ.any(axis=(0, 2)))[0].tolist())
+        allowed = _gdal_block_edge_rows(src_rows if cascade else base_rows, x.shape[1])
+        if cascade:  # and the rows GDAL averages from its own differing rows
+            r = src_rows / x.shape[1]
+            allowed |= {i for i in range(x.shape[1])
+                        if any(int(i * r) <= j < np.ceil((i + 1) * r) for j in above)}
+        assert rows <= allowed, f"overview level {k}: rows {sorted(rows)[:10]} differ from GDAL's"
+        assert len(rows) <= x.shape[1] // 64 + 2  # a few rows at most
+        src_rows, above = x.shape[1], rows
+
+
+@pytest.mark.parametrize("layout", ["strips", "tiles"])
+@pytest.mark.parametrize("shape, bigtiff", [((1536, 2048), "IF_SAFER"),
+                                             ((1301, 1029), "IF_SAFER"),
+                                             ((2219, 1535), "YES")])
+def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape, bigtiff):
+    names = ["glint_reflectance", "glint_fraction"]
+    grid = _ovr_grid(shape)
+    data = _ovr_data(rng, shape, names)
+    path = tmp_path / "map.tif"
+    assert _write_windows(path, grid, names, data, layout, bigtiff=bigtiff)
+    assert sorted(os.listdir(tmp_path)) == ["map.tif"]  # the level files are gone
+    with open(path, "rb") as f:
+        assert f.read(4) == (b"II+\x00" if bigtiff == "YES" else b"II*\x00")
+    w = GeoTiffWriter(tmp_path / "probe.tif", grid, names)
+    factors = w.factors
+    w.abort()
+    ref = _gdal_reference(tmp_path / "gdal.tif", grid, names, data, factors, "average",
+                          float("nan"))
+    # GDAL (rasterio) is the reference: its build_overviews with "average"
+    # and NaN nodata, on the same bands
+    _assert_same_overviews(path, ref)
+    with rasterio.open(path) as src:
+        assert src.overviews(1) == factors and src.overviews(2) == factors
+        assert src.tags(ns="rio_overview")["resampling"] == "average"
+        assert src.crs.to_epsg() == 32631 and src.transform == grid.transform
+        assert src.descriptions == tuple(names)
+        np.testing.assert_array_equal(src.read(1), data[names[0]])
+        # GDAL serves reduced reads from the overviews
+        h2, w2 = -(-shape[0] // 2), -(-shape[1] // 2)
+        with rasterio.open(path, overview_level=0) as ov:
+            np.testing.assert_array_equal(src.read(2, out_shape=(h2, w2)), ov.read(2))
+            assert ov.tags(ns="IMAGE_STRUCTURE").get("COMPRESSION") == "ZSTD"
+            assert ov.tags(ns="IMAGE_STRUCTURE").get("PREDICTOR") == "3"
+            assert ov.block_shapes[0] == (512, 512) and np.isnan(ov.nodata)
+
+
+def test_cog_keeps_overviews_from_windows(tmp_path, rng):
+    from rio_cogeo.cogeo import cog_validate
+
+    names = ["glint_reflectance", "glint_fraction"]
+    grid = _ovr_grid((1301, 2029))
+    data = _ovr_data(rng, grid.shape, names)
+    path = tmp_path / "map.tif"
+    assert _write_windows(path, grid, names, data, "tiles", cog=True)
+    assert os.listdir(tmp_path) == ["map.tif"]
+    # rio-cogeo's validator is the outside reference for the COG layout
+    valid, errors, _warnings = cog_validate(str(path))
+    assert valid, errors
+    _assert_same_overviews(path, _gdal_reference(tmp_path / "gdal.tif", grid, names, data,
+                                                 [2, 4], "average", float("nan")))
+
+
+def test_overviews_without_nodata_equal_gdal(tmp_path, rng):
+    # no NaN at all: GDAL's plain 2 x 2 mean on even sides
+    names = ["glint_radiance"]
+    grid = _ovr_grid((2048, 1536))
+    data = _ovr_data(rng, grid.shape, names, nan=False)
+    path = tmp_path / "map.tif"
+    assert _write_windows(path, grid, names, data, "tiles")
+    _assert_same_overviews(path, _gdal_reference(tmp_path / "gdal.tif", grid, names, data,
+                                                 [2, 4], "average", float("nan")))
+
+
+@pytest.mark.parametrize("shape", [(1300, 1100), (1301, 1101)])
+def test_class_overviews_nearest_equal_gdal(tmp_path, rng, shape):
+    grid = _ovr_grid(shape)
+    data = {"glint_class": rng.integers(0, 4, shape).astype("uint8")}
+    data["glint_class"][:50, :50] = CLASS_NODATA
+    path = tmp_path / "classes.tif"
+    assert _write_windows(path, grid, ["glint_class"], data, "tiles")
+    # GDAL's nearest is the reference (on band-interleaved files it picks
+    # pixel int(i * ratio + 0.5) of the map for every level)
+    _assert_same_overviews(path, _gdal_reference(tmp_path / "gdal.tif", grid, ["glint_class"],
+                                                 data, [2, 4], "nearest", CLASS_NODATA),
+                           cascade=False)
+    with rasterio.open(path) as src:
+        assert src.tags(ns="rio_overview")["resampling"] == "nearest"
+        assert set(np.unique(src.read(1, out_shape=(shape[0] // 4, shape[1] // 4)))) <= \
+            {0, 1, 2, 3, CLASS_NODATA}
+
+
+@pytest.mark.parametrize("case", ["mode", "rows out of order", "classic size limit"])
+def test_overviews_fall_back_to_gdal(tmp_path, rng, monkeypatch, case):
+    import glint.io.overviews as ovr
+
+    names = ["glint_class"] if case == "mode" else ["glint_fraction"]
+    grid = _ovr_grid((1100, 1300))
+    if case == "mode":
+        data = {"glint_class": rng.integers(0, 4, grid.shape).astype("uint8")}
+    else:
+        data = _ovr_data(rng, grid.shape, names)
+    resampling = "mode" if case == "mode" else "average"
+    if case == "classic size limit":  # as if the file would pass 4 GiB
+        monkeypatch.setattr(ovr, "_CLASSIC_LIMIT", 1000)
+    path = tmp_path / "map.tif"
+    with OutputSet(tmp_path, {"f": path.name}) as out:
+        w = out.writer("f", lambda p: GeoTiffWriter(p, grid, names, resampling=resampling))
+        strips = list(grid.blocks(512))
+        for b in (strips[::-1] if case == "rows out of order" else strips):
+            w.write(b.rows, {n: data[n][b.rows] for n in names})
+        assert (w._levels is None) == (case == "mode")
+        if case == "rows out of order":
+            assert not w._levels.usable
+    assert w.overviews_from == "gdal"
+    assert os.listdir(tmp_path) == ["map.tif"]
+    nodata = CLASS_NODATA if case == "mode" else float("nan")
+    # GDAL built them: equal to the reference everywhere
+    _assert_same_overviews(path, _gdal_reference(tmp_path / "gdal.tif", grid, names, data,
+                                                 [2, 4], resampling, nodata))
+
+
+def test_overview_level_files_removed_when_writing_fails(tmp_path, rng):
+    names = ["glint_fraction"]
+    grid = _ovr_grid((1100, 1300))
+    data = _ovr_data(rng, grid.shape, names)
+    with pytest.raises(RuntimeError, match="boom"):
+        with OutputSet(tmp_path, {"f": "map.tif"}) as out:
+            w = out.writer("f", lambda p: GeoTiffWriter(p, grid, names, blocksize=256))
+            w.write(slice(0, 512), {n: data[n][:512] for n in names})
+            w._levels._wait()  # the thread writing the levels has written to them
+            assert all(p.exists() for p in w._levels.paths)
+            raise RuntimeError("boom")
+    assert os.listdir(tmp_path) == []
+
+
+def test_failure_writing_a_level_fails_the_map(tmp_path, rng, monkeypatch):
+    import glint.io.overviews as ovr
+
+    def full_disk(self, lv, data, row):
+        lv.path.write_bytes(b"partial")
+        raise OSError(28, "No space left on device")
+
+    monkeypatch.setattr(ovr.OverviewLevels, "_write", full_disk)
+    names = ["glint_fraction"]
+    grid = _ovr_grid((1100, 1300))
+    data = _ovr_data(rng, grid.shape, names)
+    with pytest.raises(OSError, match="No space left"):
+        _write_windows(tmp_path / "map.tif", grid, names, data, "strips")
+    assert os.listdir(tmp_path) == []  # neither the map nor a level file
+
+
+@pytest.mark.filterwarnings("ignore::rasterio.errors.NotGeoreferencedWarning")
+def test_append_overviews_refuses_other_files(tmp_path):
+    from glint.io.overviews import append_overviews
+
+    big_endian = tmp_path / "motorola.tif"
+    big_endian.write_bytes(b"MM\x00*\x00\x00\x00\x08" + bytes(32))
+    not_tiff = tmp_path / "picture.png"
+    not_tiff.write_bytes(b"\x89PNG\r\n\x1a\n" + bytes(32))
+    striped = tmp_path / "striped.tif"
+    with rasterio.open(striped, "w", driver="GTiff", width=64, height=64, count=1,
+                       dtype="float32") as dst:
+        dst.write(np.zeros((1, 64, 64), "float32"))
+    tiled = tmp_path / "tiled.tif"
+    with rasterio.open(tiled, "w", driver="GTiff", width=64, height=64, count=1,
+                       dtype="float32", tiled=True, blockxsize=16, blockysize=16) as dst:
+        dst.write(np.zeros((1, 64, 64), "float32"))
+    for bad in (big_endian, not_tiff):
+        with pytest.raises(OutputError, match=bad.name):
+            append_overviews(bad, [tiled])
+        with pytest.raises(OutputError, match=bad.name):
+            append_overviews(tiled, [bad])
+    before = tiled.read_bytes()
+    with pytest.raises(OutputError, match="striped.tif.*not a tiled"):
+        append_overviews(tiled, [striped])
+    assert tiled.read_bytes() == before  # nothing appended before the check
+
+
 @pytest.mark.parametrize(
     "variables, kwargs, fragment",
     [

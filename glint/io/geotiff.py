@@ -2,9 +2,11 @@
 
 :class:`GeoTiffWriter` follows :class:`glint.io.outputset.OutputWriter`: it
 is built on the path an output set gives it (a temporary name in the output
-directory), takes full-width strips with :meth:`~GeoTiffWriter.write`,
-finishes overviews (or the COG layout) in :meth:`~GeoTiffWriter.close` and
-releases the dataset in :meth:`~GeoTiffWriter.abort`. Renaming into place,
+directory), takes full-width strips or windows of them with
+:meth:`~GeoTiffWriter.write` (reducing them into the overview levels as they
+come, :mod:`glint.io.overviews`), finishes overviews (or the COG layout) in
+:meth:`~GeoTiffWriter.close` and releases the dataset and removes the level
+files in :meth:`~GeoTiffWriter.abort`. Renaming into place,
 refusing existing files and removing temporaries on failure are the output
 set's job (:class:`glint.io.outputset.OutputSet`).
 
@@ -29,6 +31,7 @@ from glint.errors import InputError, OutputError
 from glint.geo.grid import Grid
 from glint.io.naming import check_free_space
 from glint.io.outputset import OutputSet
+from glint.io.overviews import OverviewLevels, append_overviews, overview_supported
 from glint.io.strips import StripArrays, check_variables, dataset_strips, dataset_variables, \
     col_range, row_range, strip_arrays
 from glint.variables import CLASS_NODATA, VARIABLES
@@ -224,14 +227,23 @@ class GeoTiffWriter:
         GDAL ``BIGTIFF`` option, default ``"IF_SAFER"``.
     overviews : bool, optional
         Build internal overviews with factors 2, 4, 8, ... until the coarsest
-        level is smaller than ``blocksize`` (default True).
+        level is smaller than ``blocksize`` (default True). With
+        ``"average"`` on a float file with NaN nodata, or ``"nearest"``, they
+        are computed from the windows as they are written
+        (:class:`glint.io.overviews.OverviewLevels`: each level streamed into
+        ``<file>.level<k>.tif`` beside the file, appended to it at close and
+        removed), equal to GDAL's (see :mod:`glint.io.overviews` for the
+        rows at GDAL's block edges when a side is odd); otherwise, or when
+        the windows do not come as strips of rows from top to bottom (each
+        strip's windows from left to right), GDAL builds them from the
+        finished file at close.
     resampling : str, optional
         Overview resampling; default ``"average"`` for floats, ``"nearest"``
-        for integers (``"mode"`` also suits classes).
+        for integers (``"mode"`` also suits classes; GDAL builds it).
     cog : bool, optional
         Write a Cloud Optimized GeoTIFF: the strips go to a working GeoTIFF
-        beside ``path`` that GDAL's COG driver copies into the final layout
-        at close.
+        beside ``path`` (with its overviews, as above) that GDAL's COG driver
+        copies into the final layout at close, reusing those overviews.
     tags : mapping, optional
         Dataset-level metadata (scene time, sun angles, class thresholds);
         values are converted with ``str``.
@@ -240,8 +252,8 @@ class GeoTiffWriter:
     cache_mb : int, optional
         GDAL block cache while writing [MB], default 256: strips and windows
         of whole tiles are compressed and flushed as they arrive, so memory
-        stays bounded whatever the grid size (a smaller cache makes GDAL
-        re-read more of the file when it builds the overviews).
+        stays bounded whatever the grid size (when GDAL builds the
+        overviews, a smaller cache makes it re-read more of the file).
     colormap : mapping of int to (r, g, b, a), optional
         Palette of a one-band uint8 file (GIS software shows the classes in
         these colours).
@@ -257,7 +269,8 @@ class GeoTiffWriter:
     InputError
         Unknown variable, mixed data types, unknown compression or resampling.
     OutputError
-        Not enough disk space.
+        Not enough disk space (the map's raw size over 2, plus a sixth for the
+        overview levels when they are computed from the windows).
 
     Examples
     --------
@@ -324,7 +337,18 @@ class GeoTiffWriter:
         #: Where the strips go: ``path``, or the working copy of a COG.
         self.work_path = Path(f"{self.path}.work.tif") if self.cog else self.path
         self._dst: Any = None
+        self._levels: OverviewLevels | None = None
+        #: After :meth:`close`: ``"windows"`` when the overviews were computed
+        #: from the written windows, ``"gdal"`` when GDAL built them from the
+        #: file (for a COG without overviews from the windows, the COG driver
+        #: builds them), None without overviews.
+        self.overviews_from: str | None = None
         self._open()
+
+    @property
+    def factors(self) -> list[int]:
+        """Overview factors of the map (none when the map fits one tile)."""
+        return overview_factors(self.grid.shape, self.blocksize)
 
     @property
     def compress(self) -> str:
@@ -360,12 +384,25 @@ class GeoTiffWriter:
         import rasterio
 
         raw = self.grid.size * self.dtype.itemsize * len(self.variables)
-        # compressed output rarely exceeds half the raw size; a COG needs a copy
-        check_free_space(self.path.parent, raw // (1 if self.cog else 2))
+        # compressed output rarely exceeds half the raw size; a COG needs a
+        # copy; overview levels add a third of the map (written twice: as
+        # level files, then appended)
+        levels = self.overviews and overview_supported(
+            self.resampling, self.dtype, self.nodata) and bool(self.factors)
+        check_free_space(self.path.parent,
+                         raw // (1 if self.cog else 2) + (raw // 6 if levels else 0))
         try:
             with self._env():
-                self._dst = rasterio.open(self.work_path, "w", **self._profile())
+                profile = self._profile()
+                self._dst = rasterio.open(self.work_path, "w", **profile)
                 _describe_bands(self._dst, self.variables, self.tags, self.colormap)
+            if levels:
+                level_profile = {k: v for k, v in profile.items()
+                                 if k not in ("crs", "transform", "width", "height", "count",
+                                              "dtype", "bigtiff")}
+                self._levels = OverviewLevels(
+                    self.work_path, self.grid.shape, len(self.factors), len(self.variables),
+                    self.dtype, self.resampling, level_profile, self._env)
         except BaseException:
             self.abort()
             raise
@@ -393,26 +430,43 @@ class GeoTiffWriter:
         c0, c1 = col_range(cols, self.grid.width)
         data = strip_arrays(self.variables, arrays, (r1 - r0, c1 - c0))
         window = Window(c0, r0, c1 - c0, r1 - r0)
+        data = [a.astype(self.dtype, copy=False) for a in data]
         with self._env():
             for i, a in enumerate(data, start=1):
-                self._dst.write(a.astype(self.dtype, copy=False), i, window=window)
+                self._dst.write(a, i, window=window)
+        if self._levels is not None and r1 > r0 and c1 > c0:
+            self._levels.add(r0, r1, c0, c1, data)
 
     def close(self) -> None:
-        """Build overviews (or the COG layout) and finish the file."""
+        """Finish the overviews (or the COG layout) and the file."""
+        import rasterio
         from rasterio.enums import Resampling
 
         if self._dst is None:
             return
         try:
+            level_paths = self._levels.finish() if self._levels is not None else []
             with self._env():
-                factors = overview_factors(self.grid.shape, self.blocksize)
-                if self.overviews and not self.cog and factors:
-                    self._dst.build_overviews(factors, Resampling[self.resampling])
+                if self.overviews and self.factors and not self.cog:
+                    if not level_paths:
+                        self._dst.build_overviews(self.factors, Resampling[self.resampling])
+                        self.overviews_from = "gdal"
                     self._dst.update_tags(ns="rio_overview", resampling=self.resampling)
                 self._dst.close()
                 self._dst = None
-                if self.cog:
-                    self._copy_to_cog()
+                if level_paths:
+                    self.overviews_from = "windows"
+                    if not append_overviews(self.work_path, level_paths):
+                        # a classic TIFF would pass 4 GiB: GDAL builds them
+                        log.info("overviews of %s built by GDAL (classic TIFF size limit)",
+                                 self.path)
+                        with rasterio.open(self.work_path, "r+") as dst:
+                            dst.build_overviews(self.factors, Resampling[self.resampling])
+                        self.overviews_from = "gdal"
+                if self._levels is not None:
+                    self._levels.discard()
+                if self.cog:  # the COG driver reuses the working copy's overviews
+                    self._copy_to_cog(existing=bool(level_paths))
                 if self.categories:
                     write_category_sidecar(self.path, self.categories)
         except BaseException:
@@ -420,13 +474,13 @@ class GeoTiffWriter:
             raise
         log.info("wrote %s", self.path)
 
-    def _copy_to_cog(self) -> None:
+    def _copy_to_cog(self, existing: bool) -> None:
         import rasterio.shutil
 
         rasterio.shutil.copy(
             self.work_path, self.path, driver="COG",
             blocksize=self.blocksize, bigtiff=self.bigtiff,
-            overviews="AUTO" if self.overviews else "NONE",
+            overviews="FORCE_USE_EXISTING" if existing else "AUTO" if self.overviews else "NONE",
             overview_resampling=self.resampling, resampling=self.resampling,
             num_threads=self.num_threads, **self.compression.options(cog=True),
         )
@@ -442,12 +496,14 @@ class GeoTiffWriter:
                     p.unlink()
 
     def abort(self) -> None:
-        """Close the dataset and remove the COG's working copy; the file at
-        :attr:`path` is removed by the output set."""
+        """Close the dataset, remove the overview level files and the COG's
+        working copy; the file at :attr:`path` is removed by the output set."""
         if self._dst is not None:
             with contextlib.suppress(Exception):
                 self._dst.close()
             self._dst = None
+        if self._levels is not None:
+            self._levels.discard()
         self._remove_work_files()
 
     def __enter__(self) -> GeoTiffWriter:
