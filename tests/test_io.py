@@ -20,6 +20,7 @@ from glint.geo.grid import Grid
 from glint.io.geotiff import GeoTiffWriter, write_dataset_geotiff
 from glint.io.naming import check_free_space
 from glint.io.netcdf import NetCDFWriter, write_dataset_netcdf
+from glint.io.overviews import LEVEL_TILE
 from glint.io.outputset import OutputSet
 from glint.geo.readers import check_matches_grid, open_band
 from glint.variables import CLASS_NODATA, VARIABLES
@@ -248,7 +249,8 @@ def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape,
             np.testing.assert_array_equal(src.read(2, out_shape=(h2, w2)), ov.read(2))
             assert ov.tags(ns="IMAGE_STRUCTURE").get("COMPRESSION") == "ZSTD"
             assert ov.tags(ns="IMAGE_STRUCTURE").get("PREDICTOR") == "3"
-            assert ov.block_shapes[0] == (512, 512) and np.isnan(ov.nodata)
+            # the levels' own tile size (each TIFF directory has its own)
+            assert ov.block_shapes[0] == (LEVEL_TILE, LEVEL_TILE) and np.isnan(ov.nodata)
 
 
 def test_cog_keeps_overviews_from_windows(tmp_path, rng):

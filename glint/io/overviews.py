@@ -40,7 +40,7 @@ The writer's thread reduces each window into level 1 (average) or picks
 every level from it (nearest); each finished strip goes to a thread of its
 own that reduces the coarser levels and writes the level files (GDAL
 compresses them meanwhile), one strip in flight at a time. Memory stays
-bounded: per level one tile-row (``blocksize`` rows of that level) being
+bounded: per level one tile-row (:data:`LEVEL_TILE` rows of that level) being
 filled, the strip in flight, and at most two source rows and columns
 carried over between strips and windows. Other resamplings, nodata values
 other than NaN for averages, and windows that do not arrive as strips of
@@ -68,10 +68,18 @@ from numpy.typing import NDArray
 
 from glint.errors import InputError, OutputError
 
-__all__ = ["OverviewLevels", "append_overviews", "level_shapes", "overview_supported"]
+__all__ = ["LEVEL_TILE", "OverviewLevels", "append_overviews", "level_shapes", "overview_supported"]
 
 #: Resamplings computed here (the others are left to GDAL).
 RESAMPLINGS = ("average", "nearest")
+
+#: Tile size of the overview levels [pixels] (at most the map's): a level's
+#: rows wait in memory until a whole row of its tiles is complete, so that
+#: memory is this many rows of every level (about ``LEVEL_TILE`` x the map's
+#: width x 4 bytes per band in all). Half the map's usual 512 keeps it a few
+#: MB per 1000 columns, and one 512-row strip of the map fills exactly one
+#: row of level-1 tiles. Each directory of a TIFF has its own tile size.
+LEVEL_TILE = 256
 
 
 def level_shapes(shape: tuple[int, int], count: int) -> list[tuple[int, int]]:
@@ -286,7 +294,8 @@ class OverviewLevels:
         self.dtype = np.dtype(dtype)
         self.resampling = resampling
         self.profile = dict(profile)
-        self.blocksize = int(self.profile.get("blockysize", 512))
+        self.blocksize = min(int(self.profile.get("blockysize", 512)), LEVEL_TILE)
+        self.profile.update(blockxsize=self.blocksize, blockysize=self.blocksize)
         self.env = env
         self._reduce = _reduce_average if resampling == "average" else _reduce_nearest
         shapes = [shape, *level_shapes(shape, count)]
@@ -429,6 +438,11 @@ class OverviewLevels:
         while i < rows.shape[1]:  # into the tile-row buffer, written when full
             if lv.buffer is None:
                 size = min(self.blocksize, lv.shape[0] - lv.written)
+                if rows.shape[1] - i >= size:  # a whole row of tiles: written as it is
+                    self._write(lv, rows[:, i:i + size], lv.written)
+                    lv.written += size
+                    i += size
+                    continue
                 lv.buffer, lv.filled = np.empty((self.bands, size, lv.shape[1]), self.dtype), 0
             n = min(rows.shape[1] - i, lv.buffer.shape[1] - lv.filled)
             lv.buffer[:, lv.filled:lv.filled + n] = rows[:, i:i + n]
