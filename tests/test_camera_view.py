@@ -68,6 +68,7 @@ def test_write_camera_view_files(tmp_path, example_scene):
     assert len(ring) == 5 and ring[0] == ring[-1]
     with netCDF4.Dataset(next(p for p in res.files if p.suffix == ".nc")) as f:
         assert f["lat"].standard_name == "latitude"
+        assert f.id == next(p for p in res.files if p.suffix == ".nc").stem
         assert f["glint_fraction"].shape == f["lon"].shape
     with pytest.raises(Exception, match="exists"):
         cv.write_camera_view(scene, tmp_path, step=20)

@@ -128,6 +128,7 @@ def test_every_file_records_the_run(tmp_path, inlet):
     assert "[sensor]" in tags["glint_run_record"] and CAUTION in tags["caution"]
     with netCDF4.Dataset(nc) as ds:
         assert ds.source.startswith("glint ")
+        assert ds.id == nc.stem  # the final name, not the temporary one (ACDD-1.3 id)
         assert ds.history.endswith("glint map inlet.toml -o out")
         assert "[surface]" in ds.glint_run_record
         # the class variable's comment points to this attribute

@@ -549,7 +549,9 @@ def write_dataset_netcdf(
     if "time" not in writer_options and "time" in ds.coords and ds["time"].ndim == 0:
         writer_options["time"] = ds["time"].values
     with OutputSet(path.parent, {"file": path.name}, overwrite=overwrite) as out:
-        w = out.writer("file", lambda p: NetCDFWriter(p, grid, names, **writer_options))
+        attrs = {"id": path.stem, **writer_options.pop("attrs", {})}
+        w = out.writer("file", lambda p: NetCDFWriter(p, grid, names, attrs=attrs,
+                                                      **writer_options))
         for rows, arrays in dataset_strips(ds, w.variables, block_rows):
             w.write(rows, arrays)
     return path

@@ -294,7 +294,8 @@ def _write_one_view(out: OutputSet, files: TimeFiles, scene: Scene, cam: FrameCa
                     (sun_zenith, sun_azimuth), t, step, "glint_class"),
     ]
     nc = out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
-        p, ImageGrid(rows, cols), names, attrs=_netcdf_attrs(attrs, scene, step), time=t,
+        p, ImageGrid(rows, cols), names, time=t,
+        attrs={**_netcdf_attrs(attrs, scene, step), "id": out.path(files.key("netcdf")).stem},
         class_flags=_class_flags(scene)))
     writers.append(nc)
     tally = GlintTally(scene.classes.names)

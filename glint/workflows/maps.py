@@ -324,7 +324,8 @@ def _open_writers(out: OutputSet, files: TimeFiles, scene: Scene, request: _Requ
     if files.has("netcdf"):
         nc_vars = request.float_vars + (("glint_class",) if request.with_classes else ())
         feeds.append(_Feed(out.writer(files.key("netcdf"), lambda p: NetCDFWriter(
-            p, g, nc_vars, attrs=_acdd(scene, ctx.attrs), time=ctx.time, class_flags=flags,
+            p, g, nc_vars, time=ctx.time, class_flags=flags,
+            attrs={**_acdd(scene, ctx.attrs), "id": out.path(files.key("netcdf")).stem},
             cache_chunks=1 if whole_chunks else None)),
             nc_vars))
     left, bottom, right, top = g.bounds
