@@ -7,9 +7,12 @@ other module spells out units or standard names.
 
 from __future__ import annotations
 
+from collections.abc import Iterable
 from dataclasses import dataclass, field
 
-__all__ = ["Variable", "VARIABLES", "DEFAULT_VARIABLES", "CLASS_NODATA"]
+import numpy as np
+
+__all__ = ["Variable", "VARIABLES", "DEFAULT_VARIABLES", "CLASS_NODATA", "bytes_per_pixel"]
 
 #: Value of the class raster where no class could be computed.
 CLASS_NODATA = 255
@@ -89,3 +92,14 @@ VARIABLES: dict[str, Variable] = {v.name: v for v in _VARS}
 
 #: Variables written when a scene or command names none.
 DEFAULT_VARIABLES: tuple[str, ...] = tuple(VARIABLES)
+
+
+def bytes_per_pixel(variables: Iterable[str]) -> int:
+    """Bytes one pixel of ``variables`` takes in memory (their table types).
+
+    Examples
+    --------
+    >>> bytes_per_pixel(["glint_reflectance", "glint_class"])
+    5
+    """
+    return sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)

@@ -47,7 +47,7 @@ from glint.physics.surface import (
 from glint.scene.model import GlintClasses, Scene, SunOptions, Surface, Water
 from glint.sensors import GroundPoints, ViewAngles
 from glint.times import format_time
-from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
+from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES, bytes_per_pixel
 
 if TYPE_CHECKING:
     import xarray
@@ -699,8 +699,7 @@ def iter_windows(
     plan = plan or plan_geometry(scene, t)
     params = params or kernel_parameters(scene, t)
     if max_pixels is None:
-        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
-        max_pixels = WINDOW_BYTES // max(per_pixel, 1)
+        max_pixels = WINDOW_BYTES // max(bytes_per_pixel(variables), 1)
     width = scene.grid.width
     step = _window_width(width, block_rows, max(int(max_pixels), 1))
     for r0, r1 in scene.grid.blocks(block_rows):
@@ -821,7 +820,7 @@ def compute_dataset(
     params = kernel_parameters(scene, t)
     data: dict[str, Any]
     if chunks is None:
-        check_memory(g.size * sum(np.dtype(VARIABLES[v].dtype).itemsize for v in variables)
+        check_memory(g.size * bytes_per_pixel(variables)
                      + window_memory(variables),
                      f"an in-memory dataset of {g.height} x {g.width} pixels (give chunks= for a "
                      "lazy one, or write maps strip by strip)")

@@ -241,15 +241,11 @@ class _Level:
     or the map for nearest), the tile-row being filled, and the GeoTIFF it
     is written to."""
 
-    def __init__(self, index: int, src_shape: tuple[int, int], shape: tuple[int, int],
-                 bands: int, dtype: np.dtype[Any], path: Path) -> None:
-        self.index = index
+    def __init__(self, src_shape: tuple[int, int], shape: tuple[int, int], path: Path) -> None:
         self.shape = shape
         self.ys = _Axis.of(src_shape[0], shape[0])
         self.xs = _Axis.of(src_shape[1], shape[1])
         self.path = path
-        self.dtype = dtype
-        self.bands = bands
         self.done = 0            # overview rows produced
         self.written = 0         # overview rows written to the file
         self.buffer: NDArray[Any] | None = None  # the tile-row being filled
@@ -301,8 +297,7 @@ class OverviewLevels:
         shapes = [shape, *level_shapes(shape, count)]
         # average: each level from the one above; nearest: each from the map
         self.cascade = resampling == "average"
-        self.levels = [_Level(k, shapes[k - 1] if self.cascade else shape, shapes[k], bands,
-                              self.dtype,
+        self.levels = [_Level(shapes[k - 1] if self.cascade else shape, shapes[k],
                               Path(f"{self.path}.level{k}.tif")) for k in range(1, count + 1)]
         #: False once the windows stopped fitting (GDAL builds the overviews).
         self.usable = bool(self.levels)

@@ -36,7 +36,7 @@ from glint.io.quicklook import (
 )
 from glint.scene import OUTPUT_FORMATS, Scene
 from glint.times import format_time
-from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES
+from glint.variables import CLASS_NODATA, DEFAULT_VARIABLES, VARIABLES, bytes_per_pixel
 from glint.workflows.job import (
     RUN_RECORD_SUFFIX,
     GlintTally,
@@ -168,7 +168,7 @@ class _Request:
     def estimated_bytes(self, grid: Grid) -> int:
         """Raw size of one time's files: a safe upper bound for the space
         check (compressed outputs are usually several times smaller)."""
-        per_pixel = 4 * len(self.float_vars) + (1 if self.with_classes else 0)
+        per_pixel = bytes_per_pixel(self.float_vars + (("glint_class",) if self.with_classes else ()))
         copies = sum(1 for f in ("geotiff", "netcdf") if f in self.formats)
         return grid.size * per_pixel * max(copies, 1)
 
@@ -548,8 +548,7 @@ def _memory_needed(request: _Request) -> int:
     if any(k in suffixes for k in ("geotiff", "classes")):
         need += _GDAL_CACHE
     if "netcdf" in suffixes:
-        per_pixel = sum(np.dtype(VARIABLES[v].dtype).itemsize for v in request.needed)
-        need += CHUNK_ROWS * CHUNK_ROWS * (per_pixel + 16)
+        need += CHUNK_ROWS * CHUNK_ROWS * (bytes_per_pixel(request.needed) + 16)
     return need + 1200 * 1200 * 4
 
 
