@@ -253,6 +253,35 @@ def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape,
             assert ov.block_shapes[0] == (LEVEL_TILE, LEVEL_TILE) and np.isnan(ov.nodata)
 
 
+@pytest.mark.parametrize("resampling", ["average", "nearest"])
+def test_overviews_from_unaligned_windows(tmp_path, rng, resampling):
+    # windows that match neither the tiles nor the factors (200 x 333 on an
+    # odd grid): the levels carry rows and columns between windows and
+    # hold rows until a whole row of their tiles is complete; the result
+    # is the same as from whole strips, and GDAL's where GDAL's is exact
+    shape = (1301, 1029)
+    grid = _ovr_grid(shape)
+    if resampling == "average":
+        names, nodata = ["glint_fraction"], float("nan")
+        data = _ovr_data(rng, shape, names)
+    else:
+        names, nodata = ["glint_class"], CLASS_NODATA
+        data = {"glint_class": rng.integers(0, 4, shape).astype("uint8")}
+    kw = dict(resampling=resampling, blocksize=256)
+    small, whole = tmp_path / "small.tif", tmp_path / "whole.tif"
+    assert _write_windows(small, grid, names, data, "tiles", rows=200, cols=333, **kw)
+    assert _write_windows(whole, grid, names, data, "strips", rows=256, **kw)
+    with rasterio.open(small) as a, rasterio.open(whole) as b:
+        assert a.overviews(1) == b.overviews(1) == [2, 4, 8]
+    for k in range(3):
+        with rasterio.open(small, overview_level=k) as a, \
+                rasterio.open(whole, overview_level=k) as b:
+            np.testing.assert_array_equal(a.read(), b.read())
+    _assert_same_overviews(small, _gdal_reference(tmp_path / "gdal.tif", grid, names, data,
+                                                  [2, 4, 8], resampling, nodata),
+                           cascade=resampling == "average")
+
+
 def test_cog_keeps_overviews_from_windows(tmp_path, rng):
     from rio_cogeo.cogeo import cog_validate
 
@@ -345,7 +374,7 @@ def test_overview_level_files_removed_when_writing_fails(tmp_path, rng):
 def test_failure_writing_a_level_fails_the_map(tmp_path, rng, monkeypatch):
     import glint.io.overviews as ovr
 
-    def full_disk(self, lv, data, row):
+    def full_disk(self, lv, data, row, col):
         lv.path.write_bytes(b"partial")
         raise OSError(28, "No space left on device")
 

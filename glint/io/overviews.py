@@ -79,7 +79,7 @@ RESAMPLINGS = ("average", "nearest")
 #: width x 4 bytes per band in all). Half the map's usual 512 keeps it a few
 #: MB per 1000 columns, and one 512-row strip of the map fills exactly one
 #: row of level-1 tiles. Each directory of a TIFF has its own tile size.
-LEVEL_TILE = 256
+LEVEL_TILE = 128
 
 
 def level_shapes(shape: tuple[int, int], count: int) -> list[tuple[int, int]]:
@@ -236,22 +236,117 @@ def _reduce_nearest(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis, cols: sl
 
 
 # ----------------------------------------------------------------- levels
-class _Level:
-    """One overview level: its reduction from its source (the level above,
-    or the map for nearest), the tile-row being filled, and the GeoTIFF it
-    is written to."""
+class _Disorder(Exception):
+    """A block that does not follow the strip order (internal)."""
 
-    def __init__(self, src_shape: tuple[int, int], shape: tuple[int, int], path: Path) -> None:
-        self.shape = shape
+
+class _Stage:
+    """One level computed from its source (the level above, or the map),
+    both in blocks: the source is fed in strips of rows from top to bottom,
+    each strip's blocks from left to right, and each block gives the
+    level's block it completes, again in that order (all blocks of a strip
+    share their rows). Between blocks it keeps only the source pixels the
+    level's next pixels still need: up to two source rows above the strip
+    (every column) and up to two source columns left of the block."""
+
+    def __init__(self, src_shape: tuple[int, int], shape: tuple[int, int],
+                 reduce: Callable[..., NDArray[Any]], dtype: np.dtype[Any]) -> None:
+        self.src_shape = src_shape
         self.ys = _Axis.of(src_shape[0], shape[0])
         self.xs = _Axis.of(src_shape[1], shape[1])
+        self.reduce = reduce
+        self.dtype = dtype
+        self.done = 0            # level rows given by the finished strips
+        self.strip = (0, 0)      # source rows of the strip being fed
+        self.row = 0             # first source row of the next strip
+        self.col = 0             # next source column of the strip
+        self.carry: NDArray[Any] | None = None  # source rows above the strip still needed
+        self.carry0 = 0
+        self.next_carry: NDArray[Any] | None = None
+        self.col_carry: list[NDArray[Any]] | None = None  # source columns left of the block
+        self.col_carry0 = 0
+        self.dcol = 0            # next level column of the strip
+
+    def _order(self, r0: int, r1: int, c0: int) -> None:
+        if c0 == 0 and r0 == self.row and self.col == 0:
+            self.strip = (r0, r1)
+        if (r0, r1) != self.strip or c0 != self.col:
+            raise _Disorder
+
+    def feed(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]
+             ) -> tuple[int, int, int, int, NDArray[Any]]:
+        """Take source rows ``r0:r1`` x columns ``c0:c1`` (one 2-D array per
+        band); return the level's rows ``i0:i1`` x columns ``d0:d1`` whose
+        source pixels are now all known, as ``(i0, i1, d0, d1, block)``."""
+        self._order(r0, r1, c0)
+        h, w = self.src_shape
+        ys, xs = self.ys, self.xs
+        i0 = self.done
+        i1 = max(ys.n_dst if r1 == h else ys.first_needing(r1), i0)
+        row0 = r0 if self.carry is None else self.carry0
+        keep_from = int(ys.left[i1]) if i1 < ys.n_dst else r1  # rows the next strip needs
+        bands = len(data)
+        if keep_from < r1 and self.next_carry is None:
+            self.next_carry = np.empty((bands, r1 - keep_from, w), self.dtype)
+        d0 = 0 if c0 == 0 else self.dcol
+        d1 = max(xs.n_dst if c1 == w else xs.first_needing(c1), d0)
+        keep_col = int(xs.left[d1]) if d1 < xs.n_dst else c1  # columns the next block needs
+        col0 = c0 if c0 == 0 or self.col_carry is None else self.col_carry0
+        out = np.empty((bands, i1 - i0, d1 - d0), self.dtype)
+        col_carry = []
+        for b in range(bands):
+            src = data[b] if self.carry is None else np.concatenate(
+                [self.carry[b, :, c0:c1], data[b]], axis=0)
+            if keep_from < r1:
+                assert self.next_carry is not None
+                self.next_carry[b, :, c0:c1] = src[keep_from - row0:]
+            if col0 < c0:
+                assert self.col_carry is not None
+                src = np.concatenate([self.col_carry[b], src], axis=1)
+            if i1 > i0 and d1 > d0:
+                out[b] = self.reduce(src, ys, slice(i0, i1), xs, slice(d0, d1), row0, col0)
+            if keep_col < c1:
+                col_carry.append(src[:, keep_col - col0:].copy())
+        self.col_carry = col_carry or None
+        self.col_carry0, self.dcol, self.col = keep_col, d1, c1
+        if c1 == w:  # the strip is complete
+            self.carry, self.carry0, self.next_carry = self.next_carry, keep_from, None
+            self.done, self.row, self.col = i1, r1, 0
+        return i0, i1, d0, d1, out
+
+
+class _Picks(_Stage):
+    """Nearest: a level's pixels picked from the map's blocks (the map's
+    pixel ``nearest`` of each axis), given in the same block order."""
+
+    def feed(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]
+             ) -> tuple[int, int, int, int, NDArray[Any]]:
+        self._order(r0, r1, c0)
+        ry, rx = self.ys.nearest, self.xs.nearest
+        i0, i1 = (int(i) for i in np.searchsorted(ry, [r0, r1]))
+        d0, d1 = (int(j) for j in np.searchsorted(rx, [c0, c1]))
+        out = np.empty((len(data), i1 - i0, d1 - d0), self.dtype)
+        if i1 > i0 and d1 > d0:
+            rows, cols = np.ix_(ry[i0:i1] - r0, rx[d0:d1] - c0)
+            for b, band in enumerate(data):
+                out[b] = band[rows, cols]
+        self.col = c1
+        if c1 == self.src_shape[1]:
+            self.done, self.row, self.col = i1, r1, 0
+        return i0, i1, d0, d1, out
+
+
+class _Level:
+    """One overview level: its stage (how it is computed), the GeoTIFF it
+    is written to, and its rows waiting for a whole row of tiles."""
+
+    def __init__(self, stage: _Stage, shape: tuple[int, int], path: Path) -> None:
+        self.stage = stage
+        self.shape = shape
         self.path = path
-        self.done = 0            # overview rows produced
-        self.written = 0         # overview rows written to the file
-        self.buffer: NDArray[Any] | None = None  # the tile-row being filled
-        self.filled = 0          # rows of it filled
-        self.carry: NDArray[Any] | None = None  # source rows kept for the next rows
-        self.carry0 = 0          # source row of carry[:, 0]
+        self.written = 0         # rows written to the file (whole rows of tiles)
+        self.pending: NDArray[Any] | None = None  # rows written..: every column
+        self.next_pending: NDArray[Any] | None = None  # filled by the strip's blocks
         self.dst: Any = None
 
 
@@ -293,23 +388,16 @@ class OverviewLevels:
         self.blocksize = min(int(self.profile.get("blockysize", 512)), LEVEL_TILE)
         self.profile.update(blockxsize=self.blocksize, blockysize=self.blocksize)
         self.env = env
-        self._reduce = _reduce_average if resampling == "average" else _reduce_nearest
         shapes = [shape, *level_shapes(shape, count)]
         # average: each level from the one above; nearest: each from the map
         self.cascade = resampling == "average"
-        self.levels = [_Level(shapes[k - 1] if self.cascade else shape, shapes[k],
-                              Path(f"{self.path}.level{k}.tif")) for k in range(1, count + 1)]
+        self.levels = [
+            _Level(_Stage(shapes[k - 1], shapes[k], _reduce_average, self.dtype) if self.cascade
+                   else _Picks(shape, shapes[k], _reduce_nearest, self.dtype),
+                   shapes[k], Path(f"{self.path}.level{k}.tif"))
+            for k in range(1, count + 1)]
         #: False once the windows stopped fitting (GDAL builds the overviews).
         self.usable = bool(self.levels)
-        self._row = 0       # next base row expected
-        self._strip = (0, 0)
-        self._col = 0       # next column expected in the current strip
-        self._strip_out: NDArray[Any] | None = None  # level-1 rows of the strip
-        self._strip_carry: NDArray[Any] | None = None
-        self._col_carry: list[NDArray[Any]] | None = None  # source columns for the next window
-        self._col_carry0 = 0
-        self._dcol = 0      # next overview column of the strip
-        self._picked: list[NDArray[Any]] = []  # nearest: the levels' rows of the strip
         self._pool: ThreadPoolExecutor | None = None  # writes the level files
         self._future: Future[None] | None = None
 
@@ -324,95 +412,28 @@ class OverviewLevels:
         band, already of the map's data type). Windows must come as strips
         of rows from top to bottom, each strip's windows from left to right
         (the writers' contract); any other order drops the levels
-        (:attr:`usable` turns False and the writer lets GDAL build them)."""
+        (:attr:`usable` turns False and the writer lets GDAL build them).
+
+        Average: this thread reduces the window into level 1 and the levels'
+        thread the coarser levels; nearest: this thread picks every level's
+        pixels. The levels' thread writes them (one window in flight)."""
         if not self.usable:
             return
-        h, w = self.shape
-        first = self.levels[0]
-        if c0 == 0 and r0 == self._row and self._col == 0:
-            self._strip = (r0, r1)
-        if (r0, r1) != self._strip or c0 != self._col:
+        stages = self.levels if not self.cascade else self.levels[:1]
+        try:
+            blocks = [lv.stage.feed(r0, r1, c0, c1, data) for lv in stages]
+        except _Disorder:
             self.discard()
             return
-        if not self.cascade:
-            self._pick(r0, r1, c0, c1, data)
-            return
-        ys, xs = first.ys, first.xs
-        n_out = max((ys.n_dst if r1 == h else ys.first_needing(r1)) - first.done, 0)
-        row0 = r0 if first.carry is None else first.carry0
-        # source rows the next overview rows still need
-        nxt = first.done + n_out
-        keep_from = int(ys.left[nxt]) if nxt < ys.n_dst else r1
-        if self._strip_out is None:
-            self._strip_out = np.empty((self.bands, n_out, first.shape[1]), self.dtype)
-        if keep_from < r1 and self._strip_carry is None:
-            self._strip_carry = np.empty((self.bands, r1 - keep_from, w), self.dtype)
-        # overview columns whose sources all lie left of c1; the source
-        # columns the next ones need are carried to the next window
-        d0 = 0 if c0 == 0 else self._dcol
-        d1 = xs.n_dst if c1 == w else xs.first_needing(c1)
-        keep_col = int(xs.left[d1]) if d1 < xs.n_dst else c1
-        col0 = c0 if c0 == 0 or self._col_carry is None else self._col_carry0
-        col_carry = []
-        for b in range(self.bands):
-            src = data[b] if first.carry is None else np.concatenate(
-                [first.carry[b, :, c0:c1], data[b]], axis=0)
-            if keep_from < r1:
-                assert self._strip_carry is not None
-                self._strip_carry[b, :, c0:c1] = src[keep_from - row0:]
-            if col0 < c0:
-                assert self._col_carry is not None
-                src = np.concatenate([self._col_carry[b], src], axis=1)
-            if n_out and d1 > d0:
-                self._strip_out[b, :, d0:d1] = self._reduce(
-                    src, ys, slice(first.done, nxt), xs, slice(d0, d1), row0, col0)
-            if keep_col < c1:
-                col_carry.append(src[:, keep_col - col0:].copy())
-        self._col_carry = col_carry or None
-        self._col_carry0, self._dcol = keep_col, d1
-        self._col = c1
-        if c1 == w:  # the strip is complete
-            first.carry, first.carry0 = self._strip_carry, keep_from
-            self._strip_carry = None
-            out, self._strip_out = self._strip_out, None
-            first.done = nxt
-            self._row, self._col = r1, 0
-            try:  # the coarser levels and the writing: in the levels' thread
-                self._submit(self._produced, 0, out, nxt)
-            except BaseException:
-                self.discard()
-                raise
-
-    def _pick(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]) -> None:
-        """Nearest: every level picks its pixels from the map's window."""
-        w = self.shape[1]
-        if c0 == 0:
-            self._picked = []
-        for k, lv in enumerate(self.levels):
-            ry, rx = lv.ys.nearest, lv.xs.nearest
-            i0, i1 = np.searchsorted(ry, [r0, r1])
-            j0, j1 = np.searchsorted(rx, [c0, c1])
-            if c0 == 0:
-                self._picked.append(np.empty((self.bands, i1 - i0, lv.shape[1]), self.dtype))
-            if i1 > i0 and j1 > j0:
-                rows, cols = np.ix_(ry[i0:i1] - r0, rx[j0:j1] - c0)
-                for b in range(self.bands):
-                    self._picked[k][b, :, j0:j1] = data[b][rows, cols]
-        self._col = c1
-        if c1 == w:
-            picked, self._picked = self._picked, []
-            self._row, self._col = r1, 0
-            for k, lv in enumerate(self.levels):
-                lv.done += picked[k].shape[1]
-            try:  # the writing: in the levels' thread
-                self._submit(self._produced_each, picked, [lv.done for lv in self.levels])
-            except BaseException:
-                self.discard()
-                raise
+        try:
+            self._submit(self._produced_each, blocks)
+        except BaseException:
+            self.discard()
+            raise
 
     def _submit(self, fn: Callable[..., None], *args: Any) -> None:
         """Run ``fn(*args)`` in the thread that writes the levels, once the
-        previous call is done (so at most one strip is in flight): GDAL
+        previous call is done (so at most one window is in flight): GDAL
         compresses the levels while this thread goes on with the map."""
         self._wait()
         if self._pool is None:
@@ -420,61 +441,52 @@ class OverviewLevels:
             self._pool = ThreadPoolExecutor(1, thread_name_prefix="glint-overviews")
         self._future = self._pool.submit(fn, *args)
 
-    def _produced_each(self, picked: list[NDArray[Any]], ends: list[int]) -> None:
-        for k, rows in enumerate(picked):
-            self._produced(k, rows, ends[k])
+    def _produced_each(self, blocks: list[tuple[int, int, int, int, NDArray[Any]]]) -> None:
+        for k, block in enumerate(blocks):
+            self._produced(k, *block)
 
-    def _produced(self, k: int, rows: NDArray[Any], end: int) -> None:
-        """Level ``k`` (0-based) produced ``rows``, its rows up to ``end``:
-        queue them for its file and reduce them into the next level (in the
-        levels' thread)."""
-        lv = self.levels[k]
-        i = 0
-        while i < rows.shape[1]:  # into the tile-row buffer, written when full
-            if lv.buffer is None:
-                size = min(self.blocksize, lv.shape[0] - lv.written)
-                if rows.shape[1] - i >= size:  # a whole row of tiles: written as it is
-                    self._write(lv, rows[:, i:i + size], lv.written)
-                    lv.written += size
-                    i += size
-                    continue
-                lv.buffer, lv.filled = np.empty((self.bands, size, lv.shape[1]), self.dtype), 0
-            n = min(rows.shape[1] - i, lv.buffer.shape[1] - lv.filled)
-            lv.buffer[:, lv.filled:lv.filled + n] = rows[:, i:i + n]
-            lv.filled += n
-            i += n
-            if lv.filled == lv.buffer.shape[1]:
-                self._flush(lv)
-        if k + 1 == len(self.levels) or not rows.shape[1] or not self.cascade:
+    def _produced(self, k: int, i0: int, i1: int, d0: int, d1: int, block: NDArray[Any]) -> None:
+        """Level ``k`` (0-based) produced rows ``i0:i1`` x columns ``d0:d1``:
+        store them and reduce them into the next level (in the levels'
+        thread). Empty blocks change nothing downstream and are dropped."""
+        if i1 == i0 or d1 == d0:
             return
-        nxt = self.levels[k + 1]
-        src = rows if nxt.carry is None else np.concatenate([nxt.carry, rows], axis=1)
-        row0 = end - rows.shape[1] if nxt.carry is None else nxt.carry0
-        n_out = (nxt.ys.n_dst if end == lv.shape[0] else nxt.ys.first_needing(end)) - nxt.done
-        out = np.empty((self.bands, max(n_out, 0), nxt.shape[1]), self.dtype)
-        if n_out > 0:
-            sel = slice(nxt.done, nxt.done + n_out)
-            for b in range(self.bands):
-                out[b] = self._reduce(src[b], nxt.ys, sel, nxt.xs, slice(None), row0, 0)
-        nxt.done += max(n_out, 0)
-        keep_from = int(nxt.ys.left[nxt.done]) if nxt.done < nxt.ys.n_dst else end
-        nxt.carry = src[:, keep_from - row0:].copy() if keep_from < end else None
-        nxt.carry0 = keep_from
-        self._produced(k + 1, out, nxt.done)
+        self._store(self.levels[k], i0, i1, d0, d1, block)
+        if self.cascade and k + 1 < len(self.levels):
+            self._produced(k + 1, *self.levels[k + 1].stage.feed(i0, i1, d0, d1, block))
 
-    def _flush(self, lv: _Level) -> None:
-        """Write a level's full tile-row buffer (or its last rows)."""
-        data, lv.buffer = lv.buffer, None
-        assert data is not None
-        self._write(lv, data, lv.written)
-        lv.written += data.shape[1]
+    def _store(self, lv: _Level, i0: int, i1: int, d0: int, d1: int, block: NDArray[Any]) -> None:
+        """Write a level's block: the rows that complete whole rows of its
+        tiles go to the file now (with the rows pending above them), the
+        others wait, every column of them, for the next strip."""
+        h, w = lv.shape
+        written = lv.written
+        end = h if i1 == h else written + (i1 - written) // self.blocksize * self.blocksize
+        if end > written:
+            top = block[:, :end - i0]
+            if i0 > written:
+                assert lv.pending is not None
+                top = np.concatenate([lv.pending[:, :, d0:d1], top], axis=1)
+            self._write(lv, top, written, d0)
+        start = max(end, written)
+        if i1 > start:  # rows start:i1 wait
+            if lv.next_pending is None:
+                lv.next_pending = np.empty((self.bands, i1 - start, w), self.dtype)
+            n_old = max(i0 - start, 0)
+            if n_old:
+                assert lv.pending is not None
+                lv.next_pending[:, :n_old, d0:d1] = lv.pending[:, start - written:, d0:d1]
+            lv.next_pending[:, n_old:, d0:d1] = block[:, max(start - i0, 0):]
+        if d1 == w:  # the strip's last block
+            lv.written, lv.pending, lv.next_pending = start, lv.next_pending, None
 
-    def _write(self, lv: _Level, data: NDArray[Any], row: int) -> None:
-        """Write rows of a level (in the levels' thread: no GDAL configuration
-        is touched here, the files were opened by the writer's thread)."""
+    def _write(self, lv: _Level, data: NDArray[Any], row: int, col: int) -> None:
+        """Write a block of a level at ``row``, ``col`` (in the levels'
+        thread: no GDAL configuration is touched here, the files were opened
+        by the writer's thread)."""
         from rasterio.windows import Window
 
-        lv.dst.write(data, window=Window(0, row, lv.shape[1], data.shape[1]))
+        lv.dst.write(data, window=Window(col, row, data.shape[2], data.shape[1]))
 
     def _open_levels(self) -> None:
         """Create the level files (in the writer's thread, in its GDAL
@@ -538,10 +550,9 @@ class OverviewLevels:
         with contextlib.suppress(Exception):
             self._wait()  # the level being written is closed below
         self._stop()
-        self._strip_out = self._strip_carry = None
-        self._picked = []
         for lv in self.levels:
-            lv.buffer, lv.carry = None, None
+            lv.pending = lv.next_pending = None
+            lv.stage.carry = lv.stage.next_carry = lv.stage.col_carry = None
             if lv.dst is not None:
                 with contextlib.suppress(Exception):
                     lv.dst.close()
