@@ -339,6 +339,23 @@ def test_computed_ahead_stops_when_the_consumer_stops():
     assert len(produced) < 10
 
 
+def test_computed_ahead_holds_at_most_depth_items_ahead():
+    # the memory of a map run counts two windows: the one being written and
+    # the one computed ahead; the thread waits for the consumer to finish
+    # with an item before it computes the next
+    produced = []
+
+    def counted():
+        for i in range(10):
+            produced.append(i)
+            yield i
+
+    for i in computed_ahead(counted(), depth=1):
+        time.sleep(0.1)  # writing item i: the thread computes i + 1, then waits
+        assert len(produced) <= i + 2
+    assert produced == list(range(10))
+
+
 # ------------------------------------------------------------ memory limit
 def test_memory_limit_refuses_before_computing(tmp_path, monkeypatch):
     """A memory limit that cannot be met is a clear error raised before

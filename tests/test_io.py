@@ -20,7 +20,7 @@ from glint.geo.grid import Grid
 from glint.io.geotiff import GeoTiffWriter, write_dataset_geotiff
 from glint.io.naming import check_free_space
 from glint.io.netcdf import NetCDFWriter, write_dataset_netcdf
-from glint.io.overviews import LEVEL_TILE
+from glint.io.overviews import level_tile
 from glint.io.outputset import OutputSet
 from glint.geo.readers import check_matches_grid, open_band
 from glint.variables import CLASS_NODATA, VARIABLES
@@ -250,7 +250,10 @@ def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape,
             assert ov.tags(ns="IMAGE_STRUCTURE").get("COMPRESSION") == "ZSTD"
             assert ov.tags(ns="IMAGE_STRUCTURE").get("PREDICTOR") == "3"
             # the levels' own tile size (each TIFF directory has its own)
-            assert ov.block_shapes[0] == (LEVEL_TILE, LEVEL_TILE) and np.isnan(ov.nodata)
+            assert ov.block_shapes[0] == (256, 256) == (level_tile(512, 1),) * 2
+            assert np.isnan(ov.nodata)
+        with rasterio.open(path, overview_level=1) as ov:
+            assert ov.block_shapes[0] == (128, 128) == (level_tile(512, 2),) * 2
 
 
 @pytest.mark.parametrize("resampling", ["average", "nearest"])

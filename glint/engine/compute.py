@@ -776,11 +776,12 @@ def check_memory(nbytes: int, what: str) -> None:
 
 def window_memory(variables: Sequence[str]) -> int:
     """Memory a streamed run of the engine needs beyond the interpreter and
-    its libraries [bytes]: three windows of the variables (one written, one
-    computed ahead, one being computed; at most :data:`WINDOW_BYTES` each),
+    its libraries [bytes]: two windows of the variables (one written, one
+    computed ahead: :func:`glint.workflows.job.computed_ahead`; at most
+    :data:`WINDOW_BYTES` each),
     the per-pixel temporaries of a chunk (about 120 bytes per pixel) and the
     tie-point lattices. The same whatever the grid's size."""
-    return 3 * WINDOW_BYTES + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
+    return 2 * WINDOW_BYTES + WINDOW_PIXELS * 120 + MAX_NODES * 8 * 12
 
 
 def compute_dataset(

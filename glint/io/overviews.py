@@ -68,18 +68,34 @@ from numpy.typing import NDArray
 
 from glint.errors import InputError, OutputError
 
-__all__ = ["LEVEL_TILE", "OverviewLevels", "append_overviews", "level_shapes", "overview_supported"]
+__all__ = ["OverviewLevels", "append_overviews", "level_shapes", "level_tile", "overview_supported"]
 
 #: Resamplings computed here (the others are left to GDAL).
 RESAMPLINGS = ("average", "nearest")
 
-#: Tile size of the overview levels [pixels] (at most the map's): a level's
-#: rows wait in memory until a whole row of its tiles is complete, so that
-#: memory is this many rows of every level (about ``LEVEL_TILE`` x the map's
-#: width x 4 bytes per band in all). Half the map's usual 512 keeps it a few
-#: MB per 1000 columns, and one 512-row strip of the map fills exactly one
-#: row of level-1 tiles. Each directory of a TIFF has its own tile size.
-LEVEL_TILE = 128
+#: Smallest tile side of the overview levels [pixels] (unless the map's
+#: tiles are smaller).
+MIN_LEVEL_TILE = 128
+
+
+def level_tile(map_tile: int, k: int) -> int:
+    """Tile side of overview level ``k`` (1, 2, ...) of a map tiled
+    ``map_tile`` x ``map_tile``: the map's tile side over ``2**k`` (a
+    multiple of 16, as TIFF requires), at least :data:`MIN_LEVEL_TILE`.
+
+    A strip of the map one tile high then gives whole rows of tiles of
+    the first levels, which go to their files as they come; a level waits
+    in memory only for the rows of its tiles not yet complete, so that
+    memory is a few coarse levels' tile rows (each TIFF directory has its
+    own tile size). Smaller tiles would cost time: GDAL spends about as
+    long per tile as on tens of thousands of pixels.
+
+    Examples
+    --------
+    >>> [level_tile(512, k) for k in (1, 2, 3, 4)]
+    [256, 128, 128, 128]
+    """
+    return max((map_tile >> k) // 16 * 16, min(map_tile, MIN_LEVEL_TILE))
 
 
 def level_shapes(shape: tuple[int, int], count: int) -> list[tuple[int, int]]:
@@ -340,9 +356,10 @@ class _Level:
     """One overview level: its stage (how it is computed), the GeoTIFF it
     is written to, and its rows waiting for a whole row of tiles."""
 
-    def __init__(self, stage: _Stage, shape: tuple[int, int], path: Path) -> None:
+    def __init__(self, stage: _Stage, shape: tuple[int, int], tile: int, path: Path) -> None:
         self.stage = stage
         self.shape = shape
+        self.tile = tile
         self.path = path
         self.written = 0         # rows written to the file (whole rows of tiles)
         self.pending: NDArray[Any] | None = None  # rows written..: every column
@@ -385,8 +402,7 @@ class OverviewLevels:
         self.dtype = np.dtype(dtype)
         self.resampling = resampling
         self.profile = dict(profile)
-        self.blocksize = min(int(self.profile.get("blockysize", 512)), LEVEL_TILE)
-        self.profile.update(blockxsize=self.blocksize, blockysize=self.blocksize)
+        map_tile = int(self.profile.get("blockysize", 512))
         self.env = env
         shapes = [shape, *level_shapes(shape, count)]
         # average: each level from the one above; nearest: each from the map
@@ -394,7 +410,7 @@ class OverviewLevels:
         self.levels = [
             _Level(_Stage(shapes[k - 1], shapes[k], _reduce_average, self.dtype) if self.cascade
                    else _Picks(shape, shapes[k], _reduce_nearest, self.dtype),
-                   shapes[k], Path(f"{self.path}.level{k}.tif"))
+                   shapes[k], level_tile(map_tile, k), Path(f"{self.path}.level{k}.tif"))
             for k in range(1, count + 1)]
         #: False once the windows stopped fitting (GDAL builds the overviews).
         self.usable = bool(self.levels)
@@ -461,7 +477,7 @@ class OverviewLevels:
         others wait, every column of them, for the next strip."""
         h, w = lv.shape
         written = lv.written
-        end = h if i1 == h else written + (i1 - written) // self.blocksize * self.blocksize
+        end = h if i1 == h else written + (i1 - written) // lv.tile * lv.tile
         if end > written:
             top = block[:, :end - i0]
             if i0 > written:
@@ -502,6 +518,7 @@ class OverviewLevels:
                     lv.dst = rasterio.open(
                         lv.path, "w", **(self.profile | dict(
                             driver="GTiff", width=lv.shape[1], height=lv.shape[0],
+                            blockxsize=lv.tile, blockysize=lv.tile,
                             count=self.bands, dtype=self.dtype.name)))
 
     def _wait(self) -> None:

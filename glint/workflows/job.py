@@ -123,31 +123,38 @@ T = TypeVar("T")
 
 
 def computed_ahead(items: Iterable[T], depth: int = 1) -> Iterator[T]:
-    """The items of ``items``, computed in a background thread up to
-    ``depth`` items ahead of the consumer.
+    """The items of ``items``, computed in a background thread at most
+    ``depth`` items ahead of the one the consumer holds.
 
     While the caller writes one strip (GDAL and netCDF compress in native
     code, without Python's lock), the next is computed (the compiled kernels
-    release it too), so both cores are busy. Memory grows by ``depth``
-    items. An exception in the computation is raised here, in the consumer;
-    when the consumer stops early (an error, SIGINT or SIGTERM) the
-    computation stops after its current item.
+    release it too), so both cores are busy. At most ``depth + 1`` items
+    are alive at once (the consumer's and those computed or being computed
+    ahead of it): the thread computes the next item only once the consumer
+    is done with the one before. An exception in the computation is raised
+    here, in the consumer; when the consumer stops early (an error, SIGINT
+    or SIGTERM) the computation stops after its current item.
     """
-    q: queue.Queue[tuple[str, Any]] = queue.Queue(maxsize=max(int(depth), 1))
+    q: queue.Queue[tuple[str, Any]] = queue.Queue()
+    slots = threading.Semaphore(max(int(depth), 1) + 1)  # items alive
     stop = threading.Event()
 
     def produce() -> None:
         try:
-            for item in items:
-                while not stop.is_set():
-                    try:
-                        q.put(("item", item), timeout=0.1)
-                        break
-                    except queue.Full:
-                        continue
+            it = iter(items)
+            while True:
+                while not slots.acquire(timeout=0.1):
+                    if stop.is_set():
+                        return
                 if stop.is_set():
                     return
-            q.put(("end", None))
+                try:
+                    item = next(it)
+                except StopIteration:
+                    q.put(("end", None))
+                    return
+                q.put(("item", item))
+                del item
         except BaseException as exc:  # handed to the consumer
             q.put(("error", exc))
 
@@ -161,14 +168,17 @@ def computed_ahead(items: Iterable[T], depth: int = 1) -> Iterator[T]:
             if kind == "error":
                 raise value
             yield value
+            del value
+            slots.release()  # the consumer is done with it
     finally:
         stop.set()
-        while worker.is_alive():  # unblock a producer waiting on a full queue
+        while worker.is_alive():
+            worker.join(timeout=0.05)
+        while True:  # drop what was computed ahead
             try:
                 q.get_nowait()
             except queue.Empty:
-                pass
-            worker.join(timeout=0.05)
+                break
 
 
 class _SceneLike(Protocol):
