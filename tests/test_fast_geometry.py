@@ -29,7 +29,7 @@ import pytest
 from glint.engine import compute
 from glint.geo.lattice import MAX_NODES, lattices
 from glint.physics.sun import solar_position
-from glint.physics.trig import COS_TABLE, SIN_TABLE, asin, atan2, sincos, sincosd
+from glint.physics.trig import asin, atan2, sincosd
 from glint.scene import scene_from_dict
 from glint.sensors.base import (
     GreatCircleTrack,
@@ -79,14 +79,6 @@ def _exact_plan(scene):
 
 
 # --------------------------------------------------------------- compiled loops
-def test_sincos_matches_math_library(rng):
-    for a in np.concatenate([rng.uniform(-6.3, 6.3, 20000), [0.0, 1 / 128, -1 / 128, 6.2799]]):
-        s, c = sincos(float(a), SIN_TABLE, COS_TABLE)
-        assert abs(s - math.sin(a)) <= 4e-16 and abs(c - math.cos(a)) <= 4e-16
-    s, c = sincos(100.0, SIN_TABLE, COS_TABLE)  # far angles: the library
-    assert (s, c) == (math.sin(100.0), math.cos(100.0))
-
-
 @numba.njit
 def _sincosd_all(d):
     s, c = np.empty_like(d), np.empty_like(d)
@@ -180,6 +172,36 @@ def test_view_from_position_matches_reference_helpers(rng, height):
     # azimuth error counts in proportion to the sine of the zenith
     assert np.max(np.abs(da) * np.sin(np.radians(ez[seen]))) < 1e-9
     np.testing.assert_allclose(d, ed, rtol=0, atol=1e-6)
+
+
+@pytest.mark.parametrize("kind", ["frame-camera", "fixed-camera", "drone"])
+def test_camera_view_matches_reference_helpers(rng, kind):
+    """The fused camera loop (view angles, image position and what is seen)
+    against the numpy chain it replaces: angles from the ECEF helpers, image
+    position from the camera's own projection (world_to_image), seen where
+    on the image and above the horizon."""
+    scene = _scene(SENSORS[kind])
+    cam = scene.sensor
+    lon = rng.uniform(cam.lon - 0.03, cam.lon + 0.03, 20_000)
+    lat = rng.uniform(cam.lat - 0.03, cam.lat + 0.03, 20_000)
+    nan = np.full(lon.shape, np.nan)
+    va = cam.view_angles(GroundPoints(nan, nan, lon, lat, nan, nan, nan), None)
+    ez, ea, ed = angles_to_position(lon, lat, 0.0, *cam._xyz)
+    col, row = cam.world_to_image(lon, lat)
+    seen = cam.in_image(col, row) & (ez < 90.0)
+    assert 0 < seen.sum() < seen.size  # points on and off the image
+    np.testing.assert_array_equal(np.isfinite(va.view_zenith), seen)
+    assert va.extras["unseen"] == int(np.sum(~seen))
+    # image positions where they are meaningful (far off the image, rays
+    # almost parallel to the image plane give huge values of either sign)
+    near = (np.abs(col) < 4 * cam.cols) & (np.abs(row) < 4 * cam.rows)
+    assert near.sum() > seen.sum()
+    np.testing.assert_allclose(va.extras["image_col"][near], col[near], rtol=0, atol=1e-6)
+    np.testing.assert_allclose(va.extras["image_row"][near], row[near], rtol=0, atol=1e-6)
+    np.testing.assert_allclose(va.view_zenith[seen], ez[seen], atol=1e-9)
+    da = (va.view_azimuth[seen] - ea[seen] + 180.0) % 360.0 - 180.0
+    assert np.max(np.abs(da) * np.sin(np.radians(ez[seen]))) < 1e-9
+    np.testing.assert_allclose(va.extras["slant_range"][seen], ed[seen], rtol=0, atol=1e-6)
 
 
 def test_view_from_track_matches_reference_helpers(rng):

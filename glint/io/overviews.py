@@ -37,15 +37,21 @@ depend on GDAL's block sizes; here every row has its exact area weights and
 picks.
 
 The writer's thread reduces each window into level 1 (average) or picks
-every level from it (nearest); each finished strip goes to a thread of its
-own that reduces the coarser levels and writes the level files (GDAL
-compresses them meanwhile), one strip in flight at a time. Memory stays
-bounded: per level one tile-row (:data:`LEVEL_TILE` rows of that level) being
-filled, the strip in flight, and at most two source rows and columns
-carried over between strips and windows. Other resamplings, nodata values
-other than NaN for averages, and windows that do not arrive as strips of
-rows from top to bottom (each from left to right) are not handled here: the
-writer falls back to GDAL's ``build_overviews`` (:attr:`OverviewLevels.usable`
+every level from it (nearest) and hands the result to a thread of its own,
+which reduces level 1's block into level 2, that into level 3 and so on,
+window by window, and writes each level's block (GDAL compresses it
+meanwhile); one window is in flight at a time. A level's rows go to its
+file as soon as they complete a row of its tiles (:func:`level_tile`: a
+512-row strip of the map gives whole rows of tiles of levels 1 and 2),
+the others wait, every column of them, for the next strip. Memory hardly
+grows with the map: the window in flight, per level at most two source
+rows carried from one strip to the next and two source columns from one
+window to the next, and the waiting rows of levels 3 and coarser, less
+than a row of their tiles at an eighth of the map's width or less (about
+6 MB for 8 float bands 11000 columns wide). Other resamplings, nodata
+values other than NaN for averages, and windows that do not arrive as
+strips of rows from top to bottom (each from left to right) are not
+handled here: the writer falls back to GDAL's ``build_overviews`` (:attr:`OverviewLevels.usable`
 turns False).
 """
 
@@ -289,7 +295,8 @@ class _Stage:
         if (r0, r1) != self.strip or c0 != self.col:
             raise _Disorder
 
-    def feed(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]
+    def feed(self, r0: int, r1: int, c0: int, c1: int,
+             data: Sequence[NDArray[Any]] | NDArray[Any]
              ) -> tuple[int, int, int, int, NDArray[Any]]:
         """Take source rows ``r0:r1`` x columns ``c0:c1`` (one 2-D array per
         band); return the level's rows ``i0:i1`` x columns ``d0:d1`` whose
@@ -335,7 +342,8 @@ class _Picks(_Stage):
     """Nearest: a level's pixels picked from the map's blocks (the map's
     pixel ``nearest`` of each axis), given in the same block order."""
 
-    def feed(self, r0: int, r1: int, c0: int, c1: int, data: Sequence[NDArray[Any]]
+    def feed(self, r0: int, r1: int, c0: int, c1: int,
+             data: Sequence[NDArray[Any]] | NDArray[Any]
              ) -> tuple[int, int, int, int, NDArray[Any]]:
         self._order(r0, r1, c0)
         ry, rx = self.ys.nearest, self.xs.nearest

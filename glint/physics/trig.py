@@ -1,50 +1,36 @@
 """Sines, cosines and arc tangents without a library call, for compiled
 per-pixel loops.
 
-Two families, each exact to the last few units in the last place:
+Each is exact to the last few units in the last place.
+:func:`sincosd`, :func:`atan2` and :func:`asin` use no table and no
+branch (the choices are arithmetic selects), so a loop that calls them
+can be vectorised by the compiler (several points per instruction).
+:func:`sincosd` takes degrees: ``d = 90 q + r`` with ``q`` the nearest
+integer to ``d/90`` (as rounded) and ``|r| <= 45`` (to rounding); ``r`` is exact (``90 q`` is exact
+for ``|q| < 2**47`` and the subtraction is exact by Sterbenz's lemma), so
+for ``|d| <= 1e16`` the only errors are the rounding of ``r pi/180`` and
+the Taylor series of sin and cos to ``x**15`` and ``x**16``, whose
+truncation at ``|x| <= pi/4`` is below 5e-17; the quadrant ``q mod 4``
+swaps and negates the pair. Beyond ``|d| = 1e16`` degrees (where the
+nearest doubles are more than a degree apart), for infinities and for
+NaN the result is NaN.
+:func:`atan2` folds ``(x, y)`` into the first octant (``t = min/max`` of
+``|x|, |y|`` in [0, 1]), reduces ``t > tan(pi/12)`` with
+``atan t = pi/6 + atan((t sqrt3 - 1)/(t + sqrt3))`` to
+``|r| <= tan(pi/12)`` (formed from ``|x|`` and ``|y|``, scaled by a
+power of two at the ends of the range, with one division) and sums the odd series of ``atan r`` to ``r**27``
+(truncation below 1e-18); quadrants, signed zeros, infinities and NaN
+follow ``math.atan2``. :func:`asin` is ``atan2(s, sqrt((1 - s)(1 + s)))``
+(the factored form keeps the cosine's digits near ``|s| = 1``). The tests
+check all three against the math library to 1e-15 rad over dense random
+angles and the edge values (measured: below 5e-16, a few units in the
+last place of angles up to pi).
 
-* :func:`sincos` gives ``sin a`` and ``cos a`` of an angle in radians from a
-  table of the multiples ``a0`` of 1/64 rad and the angle-sum formula
-  ``sin(a0 + d) = sin a0 cos d + cos a0 sin d`` with the Taylor series of
-  ``sin d`` and ``cos d`` to ``d**7`` and ``d**8``: for ``|d| <= 1/128`` the
-  truncation is below 1e-21, so the result equals ``math.sin``/``math.cos``
-  to within a few units in the last place (checked in the tests). The
-  reference angle depends on ``a`` alone, so a point's value does not
-  depend on which other points are computed with it. Angles beyond +-6.28
-  rad (and NaN) go to the library functions. Pass :data:`SIN_TABLE` and
-  :data:`COS_TABLE` into the compiled function that calls :func:`sincos`
-  (numba treats global arrays as constants, which would freeze them into
-  every cached compilation).
-
-* :func:`sincosd`, :func:`atan2` and :func:`asin` use no table and no
-  branch (the choices are arithmetic selects), so a loop that calls them
-  can be vectorised by the compiler (several points per instruction).
-  :func:`sincosd` takes degrees: ``d = 90 q + r`` with ``q`` the nearest
-  integer to ``d/90`` (as rounded) and ``|r| <= 45`` (to rounding); ``r`` is exact (``90 q`` is exact
-  for ``|q| < 2**47`` and the subtraction is exact by Sterbenz's lemma), so
-  for ``|d| <= 1e16`` the only errors are the rounding of ``r pi/180`` and
-  the Taylor series of sin and cos to ``x**15`` and ``x**16``, whose
-  truncation at ``|x| <= pi/4`` is below 5e-17; the quadrant ``q mod 4``
-  swaps and negates the pair. Beyond ``|d| = 1e16`` degrees (where the
-  nearest doubles are more than a degree apart), for infinities and for
-  NaN the result is NaN.
-  :func:`atan2` folds ``(x, y)`` into the first octant (``t = min/max`` of
-  ``|x|, |y|`` in [0, 1]), reduces ``t > tan(pi/12)`` with
-  ``atan t = pi/6 + atan((t sqrt3 - 1)/(t + sqrt3))`` to
-  ``|r| <= tan(pi/12)`` (formed from ``|x|`` and ``|y|``, scaled by a
-  power of two at the ends of the range, with one division) and sums the odd series of ``atan r`` to ``r**27``
-  (truncation below 1e-18); quadrants, signed zeros, infinities and NaN
-  follow ``math.atan2``. :func:`asin` is ``atan2(s, sqrt((1 - s)(1 + s)))``
-  (the factored form keeps the cosine's digits near ``|s| = 1``). The tests
-  check all three against the math library to 1e-15 rad over dense random
-  angles and the edge values (measured: below 5e-16, a few units in the
-  last place of angles up to pi).
-
-:func:`sincosd` takes degrees because the solar position algorithm (Reda
+:func:`sincosd` takes degrees because longitudes and latitudes come in
+degrees, and so do the angles of the solar position algorithm (Reda
 and Andreas 2004, Solar Energy 76(5), 577-589,
-doi:10.1016/j.solener.2003.12.003) states its angles in degrees, and the
-reduction by multiples of 90 degrees is exact where one by multiples of
-``pi/2`` rad is not. The arc-tangent reduction by ``pi/6`` is the one of
+doi:10.1016/j.solener.2003.12.003); and the reduction by multiples
+of 90 degrees is exact where one by multiples of ``pi/2`` rad is not. The arc-tangent reduction by ``pi/6`` is the one of
 Cody, W. J. and Waite, W. (1980) Software Manual for the Elementary
 Functions, Prentice-Hall (from memory).
 """
@@ -55,42 +41,8 @@ import math
 
 import numba
 import numpy as np
-from numpy.typing import NDArray
 
-__all__ = ["SIN_TABLE", "COS_TABLE", "sincos", "sincosd", "atan2", "asin"]
-
-_SCALE = 64.0
-_OFFSET = 403  # 2 pi * 64 = 402.1
-_ANGLES = (np.arange(2 * _OFFSET + 1) - _OFFSET) / _SCALE
-#: sin and cos of the multiples of 1/64 rad in [-6.3, 6.3].
-SIN_TABLE: NDArray[np.float64] = np.sin(_ANGLES)
-COS_TABLE: NDArray[np.float64] = np.cos(_ANGLES)
-_S3, _S5, _S7 = 1.0 / 6.0, 1.0 / 20.0, 1.0 / 42.0
-_C4, _C6, _C8 = 1.0 / 12.0, 1.0 / 30.0, 1.0 / 56.0
-
-
-@numba.njit(inline="always")
-def sincos(a: float, sin_table: NDArray[np.float64],
-           cos_table: NDArray[np.float64]) -> tuple[float, float]:  # pragma: no cover - compiled
-    """``(sin a, cos a)`` of an angle ``a`` [rad] (see the module notes).
-
-    Examples
-    --------
-    >>> s, c = sincos(0.3, SIN_TABLE, COS_TABLE)
-    >>> abs(s - math.sin(0.3)) < 1e-15 and abs(c - math.cos(0.3)) < 1e-15
-    True
-    """
-    if not abs(a) < 6.28:
-        return math.sin(a), math.cos(a)
-    k = int(math.floor(a * _SCALE + 0.5))
-    d = a - k / _SCALE
-    s0 = sin_table[k + _OFFSET]
-    c0 = cos_table[k + _OFFSET]
-    d2 = d * d
-    sd = d * (1.0 - d2 * _S3 * (1.0 - d2 * _S5 * (1.0 - d2 * _S7)))
-    cd = 1.0 - d2 * 0.5 * (1.0 - d2 * _C4 * (1.0 - d2 * _C6 * (1.0 - d2 * _C8)))
-    return s0 * cd + c0 * sd, c0 * cd - s0 * sd
-
+__all__ = ["sincosd", "atan2", "asin"]
 
 # Taylor coefficients (-1)**k / (2k+1)! and (-1)**k / (2k)! for sincosd.
 _D2R = math.pi / 180.0

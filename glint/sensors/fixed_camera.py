@@ -16,6 +16,7 @@ import numpy as np
 
 from glint.validation import WGS84_A, WGS84_B
 from glint.sensors.base import (
+    GroundPoints,
     TableReader,
     enu_basis,
     lonlat_from_ecef,
@@ -63,6 +64,11 @@ class FixedCamera(FrameCamera):
         d = (x - self._c[0], y - self._c[1], z - self._c[2])
         return tuple(self._enu[i, 0] * d[0] + self._enu[i, 1] * d[1] + self._enu[i, 2] * d[2]
                      for i in range(3))
+
+    def _view_frame(self, points: GroundPoints) -> tuple[np.ndarray, dict[str, Any]]:
+        """Over curved water the ECEF vectors camera -> point, turned by the
+        camera's axes after its local east-north-up basis."""
+        return np.asarray(self.axes @ self._enu, float), {}
 
     def ground_terms(self, longitude: Any, latitude: Any) -> dict[str, np.ndarray]:
         """None: over curved water the camera's local vectors are cheap

@@ -58,7 +58,7 @@ from glint.sensors.base import (
     ecef_from_lonlat,
     register_sensor_kind,
 )
-from glint.sensors.kernels import view_from_position
+from glint.sensors.kernels import view_from_camera
 
 __all__ = ["FrameCamera", "CameraImage", "camera_image_geometry", "camera_axes"]
 
@@ -282,18 +282,21 @@ class FrameCamera:
         ``extras``: ``image_col``, ``image_row`` (fractional pixel indices),
         ``slant_range`` [m], ``unseen`` (points outside the image).
         """
-        if "plane_east" in points.terms and self.surface == "plane":
-            e = np.asarray(points.terms["plane_east"], float)
-            v = (e, np.asarray(points.terms["plane_north"], float), np.full(e.shape, -self.altitude))
-            col, row = self._image_coords(v)
-        else:
-            col, row = self.world_to_image(points.lon, points.lat)
-        vz, va, d, _ = view_from_position(points.lon, points.lat, self._xyz)
-        seen = self.in_image(col, row) & (vz < 90.0)
-        return ViewAngles(np.where(seen, vz, np.nan), np.where(seen, va, np.nan), None,
-                          {"image_col": col, "image_row": row,
-                           "slant_range": np.where(seen, d, np.nan),
-                           "unseen": int(np.sum(~seen))})
+        rotation, plane = self._view_frame(points)
+        vz, va, d, col, row = view_from_camera(points.lon, points.lat, self._xyz, rotation,
+                                               (self.fx, self.fy), (self.cols, self.rows),
+                                               **plane)
+        return ViewAngles(vz, va, None, {"image_col": col, "image_row": row, "slant_range": d,
+                                         "unseen": int(np.count_nonzero(np.isnan(vz)))})
+
+    def _view_frame(self, points: GroundPoints) -> tuple[np.ndarray, dict[str, Any]]:
+        """Rotation and vectors of :func:`~glint.sensors.kernels.view_from_camera`:
+        over flat water the camera's axes and the points' local east and
+        north (interpolated by the engine when it has them)."""
+        terms = points.terms if "plane_east" in points.terms else \
+            self.ground_terms(points.lon, points.lat)
+        return self.axes, {"east": terms["plane_east"], "north": terms["plane_north"],
+                           "plane_up": -self.altitude}
 
     def footprint(self) -> tuple[np.ndarray, np.ndarray]:
         """Ground polygon of the image: lon, lat [°] of the four corner rays.

@@ -9,11 +9,12 @@ into one pass per point with no temporaries. The numpy functions of
 against them to 1e-9 degrees.
 
 Per point the fixed-position loop costs the sines and cosines of the
-longitude and latitude (:func:`glint.physics.trig.sincos`: no library
-call), one square root for the
-ellipsoid radius and two ``atan2``
-(zenith from ``atan2(horizontal, up)``, which is accurate near the nadir
-where ``arccos`` is not, and azimuth). The line-scanner loop adds the
+longitude and latitude, one square root for the ellipsoid radius and two
+``atan2`` (zenith from ``atan2(horizontal, up)``, which is accurate near
+the nadir where ``arccos`` is not, and azimuth). The sines, cosines and
+``atan2`` are the branch-free ones of :mod:`glint.physics.trig` (no
+library call): the compiler then runs several points at once, about six
+times faster than with the library's. The line-scanner loop adds the
 along-track angle (one ``atan2``); the aircraft's geodetic position on its
 track needs no further trigonometry (its sines and cosines follow from the
 track vector by algebra).
@@ -29,29 +30,26 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from glint.physics.trig import COS_TABLE as _COS_TABLE
-from glint.physics.trig import SIN_TABLE as _SIN_TABLE
+from glint.physics.trig import atan2 as _atan2
 from glint.physics.threads import threads_for
-from glint.physics.trig import sincos as _sincos_near
+from glint.physics.trig import sincosd as _sincosd
 from glint.validation import WGS84_A, WGS84_F
 
-__all__ = ["view_from_position", "view_from_track"]
+__all__ = ["view_from_camera", "view_from_position", "view_from_track"]
 
 _E2 = WGS84_F * (2.0 - WGS84_F)
-_D2R = math.pi / 180.0
 _R2D = 180.0 / math.pi
 
 FloatArray = NDArray[np.float64]
 
 
 @numba.njit(inline="always")
-def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
-              sin_table: FloatArray, cos_table: FloatArray
+def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float
               ) -> tuple[float, float, float, float, float, float]:  # pragma: no cover
     """Zenith, azimuth [°] and distance of (sx, sy, sz) seen from the
     ellipsoid point (lon, lat), plus the point's ECEF position."""
-    sl, cl = _sincos_near(lon_deg * _D2R, sin_table, cos_table)
-    sp, cp = _sincos_near(lat_deg * _D2R, sin_table, cos_table)
+    sl, cl = _sincosd(lon_deg)
+    sp, cp = _sincosd(lat_deg)
     n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
     px = n * cp * cl
     py = n * cp * sl
@@ -64,8 +62,8 @@ def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
     du = cp * cl * dx + cp * sl * dy + sp * dz
     hor = math.sqrt(de * de + dn * dn)
     dist = math.sqrt(hor * hor + du * du)
-    zen = math.atan2(hor, du) * _R2D
-    azi = math.atan2(de, dn) * _R2D
+    zen = _atan2(hor, du) * _R2D
+    azi = _atan2(de, dn) * _R2D
     if azi < 0.0:
         azi += 360.0
     if azi >= 360.0:
@@ -75,10 +73,10 @@ def _enu_view(lon_deg: float, lat_deg: float, sx: float, sy: float, sz: float,
 
 @numba.njit(parallel=True, cache=True, nogil=True)
 def _fixed_loop(lon: FloatArray, lat: FloatArray, sx: float, sy: float, sz: float,
-                horizon: bool, sin_table: FloatArray, cos_table: FloatArray,
+                horizon: bool,
                 zen: FloatArray, azi: FloatArray, dist: FloatArray) -> None:  # pragma: no cover
     for i in numba.prange(lon.size):
-        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz, sin_table, cos_table)
+        z, a, d, _, _, _ = _enu_view(lon[i], lat[i], sx, sy, sz)
         if horizon and not z < 90.0:  # also NaN coordinates
             z = np.nan
             a = np.nan
@@ -104,16 +102,92 @@ def view_from_position(longitude: ArrayLike, latitude: ArrayLike, position: Sequ
     sx, sy, sz = (float(np.asarray(v)) for v in position)
     if lon.size:
         with threads_for(lon.size):
-            _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), _SIN_TABLE, _COS_TABLE, zen, azi,
+            _fixed_loop(lon, lat, sx, sy, sz, bool(horizon), zen, azi,
                         dist)
     hidden = int(np.count_nonzero(np.isnan(zen)))
     return zen.reshape(shape), azi.reshape(shape), dist.reshape(shape), hidden
 
 
 @numba.njit(parallel=True, cache=True, nogil=True)
+def _camera_loop(lon: FloatArray, lat: FloatArray, east: FloatArray, north: FloatArray,
+                 plane_up: float, sx: float, sy: float, sz: float, m: FloatArray,
+                 fx: float, fy: float, cols: float, rows: float, zen: FloatArray, azi: FloatArray, dist: FloatArray,
+                 col: FloatArray, row: FloatArray) -> None:  # pragma: no cover - compiled
+    plane = east.size > 0
+    for i in numba.prange(lon.size):
+        z, a, d, px, py, pz = _enu_view(lon[i], lat[i], sx, sy, sz)
+        if plane:  # camera -> point in the camera's local east, north, up
+            v0 = east[i]
+            v1 = north[i]
+            v2 = plane_up
+        else:      # camera -> point in ECEF (m turns it into the camera's frame)
+            v0 = px - sx
+            v1 = py - sy
+            v2 = pz - sz
+        xc = m[0, 0] * v0 + m[0, 1] * v1 + m[0, 2] * v2
+        yc = m[1, 0] * v0 + m[1, 1] * v1 + m[1, 2] * v2
+        zc = m[2, 0] * v0 + m[2, 1] * v1 + m[2, 2] * v2
+        if zc > 0.0:
+            c = fx * xc / zc + cols / 2.0 - 0.5
+            r = fy * yc / zc + rows / 2.0 - 0.5
+        else:
+            c = np.nan
+            r = np.nan
+        seen = (c >= -0.5 and c <= cols - 0.5 and r >= -0.5 and r <= rows - 0.5
+                and z < 90.0)
+        if not seen:
+            z = np.nan
+            a = np.nan
+            d = np.nan
+        zen[i] = z
+        azi[i] = a
+        dist[i] = d
+        col[i] = c
+        row[i] = r
+
+
+def view_from_camera(longitude: ArrayLike, latitude: ArrayLike, position: Sequence[ArrayLike],
+                     rotation: ArrayLike, focal: tuple[float, float], size: tuple[int, int], *,
+                     east: ArrayLike | None = None, north: ArrayLike | None = None,
+                     plane_up: float = 0.0) -> tuple[FloatArray, ...]:
+    """View zenith, azimuth [°] and distance [m] of a frame camera at the
+    ECEF ``position`` from ellipsoid points, with the fractional image
+    column and row of each point, in one compiled pass.
+
+    The camera frame (x right, y down, z along the optical axis) of the
+    vector camera -> point is ``rotation @ v``: with ``east``/``north``
+    given, ``v = (east, north, plane_up)`` in the camera's local plane
+    (a camera over flat water); without, ``v`` is the ECEF vector and
+    ``rotation`` includes the camera's east-north-up basis (over curved
+    water). A point projects to ``col = fx * x / z + cols / 2 - 0.5``
+    (``row`` likewise, pinhole model; NaN behind the camera), and it is
+    seen when it falls on the image (``-0.5 <= col <= cols - 0.5``, same
+    for rows) and the camera is above its horizon; angles and distance
+    are NaN where not seen. Returns ``(zenith, azimuth, distance, col, row)``
+    in the points' shape.
+    """
+    lon, lat = np.broadcast_arrays(np.asarray(longitude, dtype=np.float64),
+                                   np.asarray(latitude, dtype=np.float64))
+    shape = lon.shape
+    lon, lat = np.ascontiguousarray(lon).ravel(), np.ascontiguousarray(lat).ravel()
+    if east is not None and north is not None:
+        e = np.ascontiguousarray(np.broadcast_to(np.asarray(east, np.float64), shape)).ravel()
+        n = np.ascontiguousarray(np.broadcast_to(np.asarray(north, np.float64), shape)).ravel()
+    else:
+        e = n = np.empty(0)
+    out = [np.empty(lon.size) for _ in range(5)]
+    sx, sy, sz = (float(np.asarray(v)) for v in position)
+    m = np.ascontiguousarray(rotation, dtype=np.float64).reshape(3, 3)
+    if lon.size:
+        with threads_for(lon.size):
+            _camera_loop(lon, lat, e, n, float(plane_up), sx, sy, sz, m, float(focal[0]),
+                         float(focal[1]), float(size[0]), float(size[1]), *out)
+    return tuple(a.reshape(shape) for a in out)
+
+
+@numba.njit(parallel=True, cache=True, nogil=True)
 def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, height: float,
-                radius: float, length: float, cos_half: float, sin_table: FloatArray,
-                cos_table: FloatArray, zen: FloatArray, azi: FloatArray,
+                radius: float, length: float, cos_half: float, zen: FloatArray, azi: FloatArray,
                 dist: FloatArray, scan: FloatArray, along_m: FloatArray,
                 seen: NDArray[np.bool_]) -> None:  # pragma: no cover - compiled
     for i in numba.prange(lon.size):
@@ -125,8 +199,8 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
             along_m[i] = np.nan
             seen[i] = False
             continue
-        sl, cl = _sincos_near(lon[i] * _D2R, sin_table, cos_table)
-        sp, cp = _sincos_near(lat[i] * _D2R, sin_table, cos_table)
+        sl, cl = _sincosd(lon[i])
+        sp, cp = _sincosd(lat[i])
         n = WGS84_A / math.sqrt(1.0 - _E2 * sp * sp)
         px = n * cp * cl
         py = n * cp * sl
@@ -135,7 +209,7 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
         pr = math.sqrt(px * px + py * py + pz * pz)
         ptv = (px * t[0] + py * t[1] + pz * t[2]) / pr
         pcv = (px * c[0] + py * c[1] + pz * c[2]) / pr
-        a = math.atan2(ptv, pcv)
+        a = _atan2(ptv, pcv)
         h = math.sqrt(ptv * ptv + pcv * pcv)
         ca = pcv / h
         sa = ptv / h
@@ -166,8 +240,8 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
         du = cp * cl * dx + cp * sl * dy + sp * dz
         hor = math.sqrt(de * de + dn * dn)
         d = math.sqrt(hor * hor + du * du)
-        z = math.atan2(hor, du) * _R2D
-        az_ = math.atan2(de, dn) * _R2D
+        z = _atan2(hor, du) * _R2D
+        az_ = _atan2(de, dn) * _R2D
         if az_ < 0.0:
             az_ += 360.0
         if az_ >= 360.0:
@@ -182,7 +256,8 @@ def _track_loop(lon: FloatArray, lat: FloatArray, c: FloatArray, t: FloatArray, 
             zen[i] = z
             azi[i] = az_
             dist[i] = d
-            scan[i] = math.acos(min(1.0, max(-1.0, cs))) * _R2D
+            # acos(cs), as an atan2 (compiled without a library call)
+            scan[i] = _atan2(math.sqrt(max(0.0, (1.0 - cs) * (1.0 + cs))), cs) * _R2D
         else:
             zen[i] = np.nan
             azi[i] = np.nan
@@ -220,7 +295,7 @@ def view_from_track(longitude: ArrayLike, latitude: ArrayLike, *, centre: ArrayL
         with threads_for(lon.size):
             _track_loop(lon, lat, np.ascontiguousarray(centre, dtype=np.float64),
                         np.ascontiguousarray(heading, dtype=np.float64), float(height), float(radius),
-                        float(length), math.cos(math.radians(scan_half_angle)), _SIN_TABLE, _COS_TABLE,
+                        float(length), math.cos(math.radians(scan_half_angle)),
                         out["view_zenith"], out["view_azimuth"], out["slant_range"], out["scan_angle"],
                         out["along_track"], seen)
     res: dict[str, NDArray[Any]] = {k: v.reshape(shape) for k, v in out.items()}
