@@ -121,7 +121,7 @@ def main() -> int:
     ap.add_argument("--scenes", type=int, default=40)
     ap.add_argument("--size", type=int, default=250, help="pixels per side of a small scene")
     ap.add_argument("--large", type=int, default=3000, help="pixels per side of the large scene")
-    ap.add_argument("--repeat", type=int, default=2, help="best of N runs")
+    ap.add_argument("--repeat", type=int, default=3, help="best of N runs")
     ap.add_argument("--target-speedup", type=float, default=1.7)
     ap.add_argument("--target-overhead", type=float, default=0.10)
     ap.add_argument("--quick", action="store_true", help="10 scenes, a 1000 px large one: a smoke test")
