@@ -252,11 +252,6 @@ def _reduce_average(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis,
     return out
 
 
-def _reduce_nearest(a: NDArray[Any], ys: _Axis, rows: slice, xs: _Axis, cols: slice,
-                    row0: int, col0: int) -> NDArray[Any]:
-    return a[np.ix_(ys.nearest[rows] - row0, xs.nearest[cols] - col0)]
-
-
 # ----------------------------------------------------------------- levels
 class _Disorder(Exception):
     """A block that does not follow the strip order (internal)."""
@@ -271,12 +266,14 @@ class _Stage:
     level's next pixels still need: up to two source rows above the strip
     (every column) and up to two source columns left of the block."""
 
+    #: The reduction of a block of the source (see :func:`_reduce_average`).
+    reduce = staticmethod(_reduce_average)
+
     def __init__(self, src_shape: tuple[int, int], shape: tuple[int, int],
-                 reduce: Callable[..., NDArray[Any]], dtype: np.dtype[Any]) -> None:
+                 dtype: np.dtype[Any]) -> None:
         self.src_shape = src_shape
         self.ys = _Axis.of(src_shape[0], shape[0])
         self.xs = _Axis.of(src_shape[1], shape[1])
-        self.reduce = reduce
         self.dtype = dtype
         self.done = 0            # level rows given by the finished strips
         self.strip = (0, 0)      # source rows of the strip being fed
@@ -416,8 +413,8 @@ class OverviewLevels:
         # average: each level from the one above; nearest: each from the map
         self.cascade = resampling == "average"
         self.levels = [
-            _Level(_Stage(shapes[k - 1], shapes[k], _reduce_average, self.dtype) if self.cascade
-                   else _Picks(shape, shapes[k], _reduce_nearest, self.dtype),
+            _Level(_Stage(shapes[k - 1], shapes[k], self.dtype) if self.cascade
+                   else _Picks(shape, shapes[k], self.dtype),
                    shapes[k], level_tile(map_tile, k), Path(f"{self.path}.level{k}.tif"))
             for k in range(1, count + 1)]
         #: False once the windows stopped fitting (GDAL builds the overviews).
