@@ -271,16 +271,22 @@ def _lattice_weights(
 @numba.njit(parallel=True, cache=True, nogil=True)
 def _bilinear_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray, ic: NDArray[np.intp],
                    tc: FloatArray, out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled
-    """One pass of bilinear interpolation over the output."""
+    """Bilinear interpolation over the output, row by row: the two node
+    rows around an output row are first blended into one line of node
+    values (the node columns the row needs), then each pixel is a linear
+    blend of two values of that line, read from a short array in cache."""
+    k0 = ic.min()
+    line_size = ic.max() + 2 - k0
     for i in numba.prange(ir.size):
         r0 = ir[i]
         t = tr[i]
+        line = np.empty(line_size)
+        for k in range(line_size):
+            line[k] = v[r0, k0 + k] * (1.0 - t) + v[r0 + 1, k0 + k] * t
         for j in range(ic.size):
-            c0 = ic[j]
+            c = ic[j] - k0
             u = tc[j]
-            top = v[r0, c0] * (1.0 - u) + v[r0, c0 + 1] * u
-            bottom = v[r0 + 1, c0] * (1.0 - u) + v[r0 + 1, c0 + 1] * u
-            out[i, j] = top * (1.0 - t) + bottom * t
+            out[i, j] = line[c] * (1.0 - u) + line[c + 1] * u
 
 
 @numba.njit(inline="always")
@@ -294,21 +300,32 @@ def _bilinear_azimuth_loop(v: FloatArray, ir: NDArray[np.intp], tr: FloatArray,
                            ic: NDArray[np.intp], tc: FloatArray,
                            out: NDArray[np.floating]) -> None:  # pragma: no cover - compiled
     """Bilinear interpolation of azimuths: the four corners of each cell are
-    taken within 180° of its first corner, interpolated, folded to [0, 360)."""
+    taken within 180° of its first corner, interpolated, folded to [0, 360).
+    Row by row as :func:`_bilinear_loop`: per cell, its left and right
+    edges at the output row; per pixel, a blend of the two (folded only
+    when it leaves [0, 360))."""
+    k0 = ic.min()
+    cells = ic.max() + 1 - k0
     for i in numba.prange(ir.size):
         r0 = ir[i]
         t = tr[i]
+        left = np.empty(cells)
+        right = np.empty(cells)
+        for k in range(cells):
+            a00 = v[r0, k0 + k]
+            a01 = _near(v[r0, k0 + k + 1], a00)
+            a10 = _near(v[r0 + 1, k0 + k], a00)
+            a11 = _near(v[r0 + 1, k0 + k + 1], a00)
+            left[k] = a00 * (1.0 - t) + a10 * t
+            right[k] = a01 * (1.0 - t) + a11 * t
         for j in range(ic.size):
-            c0 = ic[j]
+            c = ic[j] - k0
             u = tc[j]
-            a00 = v[r0, c0]
-            a01 = _near(v[r0, c0 + 1], a00)
-            a10 = _near(v[r0 + 1, c0], a00)
-            a11 = _near(v[r0 + 1, c0 + 1], a00)
-            a = (a00 * (1.0 - u) + a01 * u) * (1.0 - t) + (a10 * (1.0 - u) + a11 * u) * t
-            a = a - 360.0 * math.floor(a / 360.0)
-            if a >= 360.0:
-                a -= 360.0
+            a = left[c] * (1.0 - u) + right[c] * u
+            if not (a >= 0.0 and a < 360.0):
+                a = a - 360.0 * math.floor(a / 360.0)
+                if a >= 360.0:
+                    a -= 360.0
             out[i, j] = a
 
 
@@ -360,8 +377,9 @@ def interpolate_nodes(
         dtype = v.dtype if np.issubdtype(v.dtype, np.floating) else np.float64
     v, ir, tr, ic, tc = _lattice_weights(v, node_rows, node_cols, rows, cols)
     out = np.empty((ir.size, ic.size), dtype=dtype)
-    with threads_for(out.size):
-        _bilinear_loop(v, ir, tr, ic, tc, out)
+    if out.size:
+        with threads_for(out.size):
+            _bilinear_loop(v, ir, tr, ic, tc, out)
     return out
 
 
@@ -393,8 +411,9 @@ def interpolate_azimuth_nodes(
     a = np.asarray(azimuth_at_nodes, dtype=float)
     v, ir, tr, ic, tc = _lattice_weights(a, node_rows, node_cols, rows, cols)
     out = np.empty((ir.size, ic.size), dtype=dtype)
-    with threads_for(out.size):
-        _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
+    if out.size:
+        with threads_for(out.size):
+            _bilinear_azimuth_loop(v, ir, tr, ic, tc, out)
     return out
 
 
