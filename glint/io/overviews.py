@@ -42,13 +42,13 @@ which reduces level 1's block into level 2, that into level 3 and so on,
 window by window, and writes each level's block (GDAL compresses it
 meanwhile); one window is in flight at a time. A level's rows go to its
 file as soon as they complete a row of its tiles (:func:`level_tile`: a
-512-row strip of the map gives whole rows of tiles of levels 1 and 2),
+512-row strip of the map gives whole rows of tiles of levels 1 to 3),
 the others wait, every column of them, for the next strip. Memory hardly
 grows with the map: the window in flight, per level at most two source
 rows carried from one strip to the next and two source columns from one
-window to the next, and the waiting rows of levels 3 and coarser, less
-than a row of their tiles at an eighth of the map's width or less (about
-6 MB for 8 float bands 11000 columns wide). Other resamplings, nodata
+window to the next, and the waiting rows of levels 4 and coarser, less
+than two rows of their 64-pixel tiles at a sixteenth of the map's width
+or less (about 2 MB for 8 float bands 11000 columns wide). Other resamplings, nodata
 values other than NaN for averages, and windows that do not arrive as
 strips of rows from top to bottom (each from left to right) are not
 handled here: the writer falls back to GDAL's ``build_overviews`` (:attr:`OverviewLevels.usable`
@@ -81,7 +81,7 @@ RESAMPLINGS = ("average", "nearest")
 
 #: Smallest tile side of the overview levels [pixels] (unless the map's
 #: tiles are smaller).
-MIN_LEVEL_TILE = 128
+MIN_LEVEL_TILE = 64
 
 
 def level_tile(map_tile: int, k: int) -> int:
@@ -99,7 +99,7 @@ def level_tile(map_tile: int, k: int) -> int:
     Examples
     --------
     >>> [level_tile(512, k) for k in (1, 2, 3, 4)]
-    [256, 128, 128, 128]
+    [256, 128, 64, 64]
     """
     return max((map_tile >> k) // 16 * 16, min(map_tile, MIN_LEVEL_TILE))
 
