@@ -256,12 +256,15 @@ def test_overviews_from_windows_equal_gdal_average(tmp_path, rng, layout, shape,
             assert ov.block_shapes[0] == (128, 128) == (level_tile(512, 2),) * 2
 
 
+@pytest.mark.parametrize("cols", [333, 514])
 @pytest.mark.parametrize("resampling", ["average", "nearest"])
-def test_overviews_from_unaligned_windows(tmp_path, rng, resampling):
+def test_overviews_from_unaligned_windows(tmp_path, rng, resampling, cols):
     # windows that match neither the tiles nor the factors (200 x 333 on an
-    # odd grid): the levels carry rows and columns between windows and
-    # hold rows until a whole row of their tiles is complete; the result
-    # is the same as from whole strips, and GDAL's where GDAL's is exact
+    # odd grid; 200 x 514 leaves a last window one column wide, in which
+    # level 1 picks no pixel): the levels carry rows and columns between
+    # windows and hold rows until a whole row of their tiles is complete;
+    # the result is the same as from whole strips, and GDAL's where GDAL's
+    # is exact
     shape = (1301, 1029)
     grid = _ovr_grid(shape)
     if resampling == "average":
@@ -272,7 +275,7 @@ def test_overviews_from_unaligned_windows(tmp_path, rng, resampling):
         data = {"glint_class": rng.integers(0, 4, shape).astype("uint8")}
     kw = dict(resampling=resampling, blocksize=256)
     small, whole = tmp_path / "small.tif", tmp_path / "whole.tif"
-    assert _write_windows(small, grid, names, data, "tiles", rows=200, cols=333, **kw)
+    assert _write_windows(small, grid, names, data, "tiles", rows=200, cols=cols, **kw)
     assert _write_windows(whole, grid, names, data, "strips", rows=256, **kw)
     with rasterio.open(small) as a, rasterio.open(whole) as b:
         assert a.overviews(1) == b.overviews(1) == [2, 4, 8]

@@ -93,8 +93,9 @@ def level_tile(map_tile: int, k: int) -> int:
     the first levels, which go to their files as they come; a level waits
     in memory only for the rows of its tiles not yet complete, so that
     memory is a few coarse levels' tile rows (each TIFF directory has its
-    own tile size). Smaller tiles would cost time: GDAL spends about as
-    long per tile as on tens of thousands of pixels.
+    own tile size). Smaller tiles cost time, as GDAL works tile by tile:
+    128-pixel tiles on level 1 of a 120 Mpx map took about 2 s more than
+    256 in one comparison.
 
     Examples
     --------
@@ -469,7 +470,9 @@ class OverviewLevels:
     def _produced(self, k: int, i0: int, i1: int, d0: int, d1: int, block: NDArray[Any]) -> None:
         """Level ``k`` (0-based) produced rows ``i0:i1`` x columns ``d0:d1``:
         store them and reduce them into the next level (in the levels'
-        thread). Empty blocks change nothing downstream and are dropped."""
+        thread). Empty blocks change nothing downstream and are dropped: the
+        block that completes a strip's columns (``d1`` = the level's width,
+        which :meth:`_store` waits for) is never empty."""
         if i1 == i0 or d1 == d0:
             return
         self._store(self.levels[k], i0, i1, d0, d1, block)
